@@ -118,3 +118,13 @@ class PartSpec:
 def part_key(number: str) -> str:
     """The lookup key of a part number: case and spacing folded (``2n2222a`` = ``2N2222A``)."""
     return " ".join(number.split()).upper()
+
+
+@dataclass
+class Stocked:
+    """A part as a candidate from the drawers (or the catalog): free quantity and where."""
+
+    part: PartSpec
+    free: int = 0  # on hand minus reserved, over all drawers
+    drawers: list[tuple[str, int]] = field(default_factory=list)  # (drawer label, free there)
+    to_buy: bool = False  # a catalog part not in stock: a stand-in that would have to be bought
