@@ -1,0 +1,99 @@
+"""Part records in the store: rows to :class:`~stock.parts.PartSpec` and back."""
+
+from __future__ import annotations
+
+import json
+from collections import defaultdict
+from collections.abc import Iterable, Sequence
+
+from sqlalchemy import delete, insert, select
+from sqlalchemy.orm import Session
+
+from stock.kinds import Bound, Kind
+from stock.parts import Origin, Param, PartSpec, part_key
+from stock.store.models import ParamRow, Part
+
+
+def at_text(at: dict[str, float] | None) -> str:
+    """Test conditions as stable JSON ('' when there are none)."""
+    return json.dumps(dict(sorted(at.items())), separators=(",", ":")) if at else ""
+
+
+def at_dict(text: str) -> dict[str, float]:
+    return json.loads(text) if text else {}
+
+
+def part_id(session: Session, number: str) -> int | None:
+    return session.execute(select(Part.id).where(Part.key == part_key(number))).scalar()
+
+
+def insert_part(session: Session, spec: PartSpec) -> int:
+    """Insert a new part with its parameters; return its id."""
+    pid = session.execute(
+        insert(Part)
+        .values(number=spec.number.strip(), key=part_key(spec.number), kind=spec.kind.value,
+                family=spec.family, package=spec.package, pinout=spec.pinout,
+                description=spec.description, attrs=json.dumps(spec.attrs, sort_keys=True),
+                source=spec.source)
+        .returning(Part.id)
+    ).scalar_one()
+    write_params(session, pid, spec.params)
+    return pid
+
+
+def write_params(session: Session, pid: int, params: Iterable[Param], *,
+                 replace: bool = False) -> None:
+    """Store ``params`` for part ``pid``; with ``replace`` the same name+bound is overwritten."""
+    rows = [dict(part_id=pid, name=p.name, bound=Bound(p.bound).value, value=float(p.value),
+                 at=at_text(dict(p.at)), origin=Origin(p.origin).value) for p in params]
+    if not rows:
+        return
+    if replace:
+        for r in rows:
+            session.execute(delete(ParamRow).where(ParamRow.part_id == pid,
+                                                   ParamRow.name == r["name"],
+                                                   ParamRow.bound == r["bound"]))
+    session.execute(insert(ParamRow), rows)
+
+
+def update_part(session: Session, pid: int, spec: PartSpec) -> None:
+    """Overwrite descriptive fields that ``spec`` sets and replace its parameters by name+bound."""
+    part = session.get(Part, pid)
+    assert part is not None
+    for field in ("family", "package", "pinout"):
+        value = getattr(spec, field)
+        if value:
+            setattr(part, field, value)
+    if spec.description:
+        part.description = spec.description
+    if spec.attrs:
+        attrs = json.loads(part.attrs or "{}")
+        attrs.update(spec.attrs)
+        part.attrs = json.dumps(attrs, sort_keys=True)
+    write_params(session, pid, spec.params, replace=True)
+
+
+def load_specs(session: Session, ids: Sequence[int]) -> dict[int, PartSpec]:
+    """PartSpecs for part ids, with their parameters, in two queries per 500 ids."""
+    out: dict[int, PartSpec] = {}
+    for i in range(0, len(ids), 500):
+        chunk = list(ids[i : i + 500])
+        for row in session.execute(
+            select(Part.id, Part.number, Part.kind, Part.family, Part.package, Part.pinout,
+                   Part.description, Part.attrs, Part.source).where(Part.id.in_(chunk))
+        ):
+            out[row[0]] = PartSpec(row[1], Kind(row[2]), row[3], row[4], row[5], row[6] or "",
+                                   json.loads(row[7] or "{}"), [], row[8])
+        params: dict[int, list[Param]] = defaultdict(list)
+        for pid, name, bound, value, at, origin in session.execute(
+            select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value, ParamRow.at,
+                   ParamRow.origin).where(ParamRow.part_id.in_(chunk)).order_by(ParamRow.id)
+        ):
+            params[pid].append(Param(name, Bound(bound), value, at_dict(at), Origin(origin)))
+        for pid, ps in params.items():
+            out[pid].params = ps
+    return out
+
+
+def load_spec(session: Session, pid: int) -> PartSpec:
+    return load_specs(session, [pid])[pid]

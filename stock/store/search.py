@@ -1,0 +1,118 @@
+"""Parametric queries over the store: what is in stock that meets given bounds.
+
+A criterion ``>= x`` is held against a guaranteed value: a rating, or a characteristic's
+``min``; ``<= x`` against a rating or a characteristic's ``max``. Typical values count
+only when asked (``typical=True``), since nothing guarantees them.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Sequence
+from typing import Any
+
+from sqlalchemy import and_, exists, func, select
+from sqlalchemy.orm import Session
+
+from stock.kinds import Kind
+from stock.params import PARAMS, Sense
+from stock.slots import Op
+from stock.store.models import Balance, ParamRow, Part
+
+#: Criteria on these names compare a column of the part, not a parameter.
+COLUMNS = {"family": Part.family, "package": Part.package, "pinout": Part.pinout}
+
+_REL = 1e-9  # relative slack for "=" on floats (values parsed from text round-trip exactly)
+
+
+def _bounds(name: str, op: Op, typical: bool) -> tuple[str, ...]:
+    pdef = PARAMS.get(name)
+    if pdef is None or pdef.sense in (Sense.RATING, Sense.NOMINAL):
+        return ("min", "max", "nom") + (("typ",) if typical else ())
+    guaranteed = {Op.GE: ("min", "nom"), Op.LE: ("max", "nom"), Op.EQ: ("nom", "min", "max")}
+    return guaranteed[op] + (("typ",) if typical else ())
+
+
+def _value_test(op: Op, value: float) -> Any:
+    if op == Op.GE:
+        return ParamRow.value >= value
+    if op == Op.LE:
+        return ParamRow.value <= value
+    slack = abs(value) * _REL
+    return ParamRow.value.between(value - slack, value + slack)
+
+
+def criterion_clause(c: Any, typical: bool = False) -> Any:
+    """A WHERE clause on ``parts`` for one criterion (param, op, value)."""
+    name, op, value = c.param, Op(c.op), c.value
+    if name in COLUMNS:
+        return func.lower(COLUMNS[name]) == str(value).lower()
+    if isinstance(value, str):
+        needle = json.dumps({name: value})[1:-1]  # '"safety": "X2"', as attrs are stored
+        return Part.attrs.like(f"%{needle}%")
+    return exists().where(
+        ParamRow.part_id == Part.id,
+        ParamRow.name == name,
+        ParamRow.bound.in_(_bounds(name, op, typical)),
+        _value_test(op, float(value)),
+    )
+
+
+def _free():
+    return func.coalesce(func.sum(Balance.on_hand - Balance.reserved), 0)
+
+
+def search(session: Session, kind: Kind | None, family: str | None,
+           criteria: Sequence[Any] = (), *, typical: bool = False, include_empty: bool = False,
+           limit: int | None = 50) -> list[tuple[int, int]]:
+    """(part id, free quantity) of parts that meet every criterion.
+
+    Sorted so the part that meets the first numeric criterion with the least to spare
+    comes first (keep the better parts for where they are needed), then by free stock.
+    """
+    free = _free().label("free")
+    stmt = select(Part.id, free).outerjoin(Balance, Balance.part_id == Part.id)
+    conds = []
+    if kind is not None:
+        conds.append(Part.kind == Kind(kind).value)
+    if family:
+        conds.append(Part.family == family)
+    conds.extend(criterion_clause(c, typical) for c in criteria)
+    if conds:
+        stmt = stmt.where(and_(*conds))
+    stmt = stmt.group_by(Part.id, Part.key)
+    if not include_empty:
+        stmt = stmt.having(_free() > 0)
+    order: list[Any] = []
+    numeric = [c for c in criteria if c.param not in COLUMNS and not isinstance(c.value, str)]
+    if numeric:
+        c = numeric[0]
+        key = (
+            select(func.min(ParamRow.value) if Op(c.op) != Op.LE else func.max(ParamRow.value))
+            .where(ParamRow.part_id == Part.id, ParamRow.name == c.param,
+                   ParamRow.bound.in_(_bounds(c.param, Op(c.op), typical)))
+            .correlate(Part)
+            .scalar_subquery()
+        )
+        order.append(key.desc() if Op(c.op) == Op.LE else key.asc())
+    order += [_free().desc(), Part.key]
+    stmt = stmt.order_by(*order)
+    if limit:
+        stmt = stmt.limit(limit)
+    return [(int(r[0]), int(r[1])) for r in session.execute(stmt)]
+
+
+def free_parts(session: Session, kind: Kind, family: str | None = None) -> list[tuple[int, int]]:
+    """(part id, free) of every part of ``kind`` (and ``family``) with free stock."""
+    stmt = (
+        select(Balance.part_id, func.sum(Balance.on_hand - Balance.reserved))
+        .join(Part, Part.id == Balance.part_id)
+        .where(Part.kind == Kind(kind).value, Balance.on_hand > Balance.reserved)
+        .group_by(Balance.part_id)
+        .order_by(Balance.part_id)
+    )
+    if family:
+        stmt = stmt.where(Part.family == family)
+    return [(int(a), int(b)) for a, b in session.execute(stmt)]
+
+
