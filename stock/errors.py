@@ -90,3 +90,7 @@ def suggest(name: str, choices: list[str], limit: int = 3) -> str:
         upper = name.upper()
         close = [c for c in choices if upper in c.upper()][:limit]
     return f" (did you mean {', '.join(close)}?)" if close else ""
+
+
+class PlanError(StockError, ValueError):
+    """An allocation problem is malformed (a demand twice, a negative quantity or cost)."""
