@@ -78,6 +78,8 @@ class Requirement:
     why: str = ""
     rule: str | None = None  # id of the policy rule that derived it (stock.rules)
     warn_only: bool = False  # a preference: missing it warns, never fails
+    prefer: float | None = None  # a stricter value that is preferred: missing only it warns
+    at: tuple[tuple[str, float], ...] = ()  # operating point the bound applies at (if=1 mA)
 
 
 @dataclass
