@@ -94,3 +94,7 @@ def suggest(name: str, choices: list[str], limit: int = 3) -> str:
 
 class PlanError(StockError, ValueError):
     """An allocation problem is malformed (a demand twice, a negative quantity or cost)."""
+
+
+class FitError(StockError, ValueError):
+    """A fit calculation was asked something impossible (a negative L, an empty tie group)."""
