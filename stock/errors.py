@@ -98,3 +98,7 @@ class PlanError(StockError, ValueError):
 
 class FitError(StockError, ValueError):
     """A fit calculation was asked something impossible (a negative L, an empty tie group)."""
+
+
+class ExportFileError(StockError, ValueError):
+    """A table cannot be written as asked (bad path, too many rows for XLSX, a cell too long)."""
