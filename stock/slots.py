@@ -119,6 +119,8 @@ class Slot:
     requirements: list[Requirement] = field(default_factory=list)  # explicit, Source.USER
     tie: str | None = None  # name of a group of slots forming a tank or a crystal's load
     note: str = ""
+    package: str | None = None  # package the board is laid out for ("TO-92"), if stated
+    pinout: str | None = None  # pin order the board expects, pin 1 first ("EBC"), if stated
 
     @property
     def label(self) -> str:
