@@ -86,9 +86,11 @@ class Store:
             raise self._unknown_part(number)
         return spec
 
-    def _unknown_part(self, number: str) -> UnknownPart:
-        with self.read() as s:
-            numbers = list(s.execute(select(Part.number)).scalars())
+    def _unknown_part(self, number: str, s: Session | None = None) -> UnknownPart:
+        if s is None:
+            with self.read() as s2:
+                return self._unknown_part(number, s2)
+        numbers = list(s.execute(select(Part.number)).scalars())
         return UnknownPart(
             f"no part {number!r} in the store{suggest(number, numbers)}; "
             "add it with 'stock add' or list parts with 'stock find'"
@@ -103,6 +105,23 @@ class Store:
             elif update:
                 repo.update_part(s, pid, spec)
             return repo.load_spec(s, pid)
+
+    def save_and_receive(self, spec: PartSpec, drawer: str, qty: int, *, ref: str = "",
+                         note: str = "", key: str | None = None, update: bool = True
+                         ) -> tuple[PartSpec, bool]:
+        """Create or update ``spec`` and receive ``qty`` into ``drawer``, in one transaction."""
+        positive(qty)
+        with self.write() as s:
+            pid = repo.part_id(s, spec.number)
+            if pid is None:
+                pid = repo.insert_part(s, spec)
+            elif update:
+                repo.update_part(s, pid, spec)
+            did = self._drawer_id(s, drawer, create=True)
+            done = ledger.post(s, part_id=pid, drawer_id=did, deltas={Account.ON_HAND: qty},
+                               reason=Reason.RECEIVE, ref=ref, note=note, key=key,
+                               names=(spec.number, drawer))
+            return repo.load_spec(s, pid), done
 
     def part_count(self) -> int:
         with self.read() as s:
@@ -136,7 +155,7 @@ class Store:
     def _part_id(self, s: Session, number: str) -> int:
         pid = repo.part_id(s, number)
         if pid is None:
-            raise self._unknown_part(number)
+            raise self._unknown_part(number, s)
         return pid
 
     # --- quantities --------------------------------------------------------------
@@ -307,8 +326,8 @@ class Store:
             ledger_sums = {(r[0], r[1]): (r[2] or 0, r[3] or 0) for r in s.execute(select(sums))}
             balances = {(r[0], r[1]): (r[2], r[3]) for r in s.execute(
                 select(Balance.part_id, Balance.drawer_id, Balance.on_hand, Balance.reserved))}
-            names = dict(s.execute(select(Part.id, Part.number)).tuples().all())
-            labels = dict(s.execute(select(Drawer.id, Drawer.label)).tuples().all())
+            names = dict(s.execute(select(Part.id, Part.number)).all())
+            labels = dict(s.execute(select(Drawer.id, Drawer.label)).all())
             for k in sorted(set(ledger_sums) | set(balances)):
                 want, have = ledger_sums.get(k, (0, 0)), balances.get(k, (0, 0))
                 if want != have:

@@ -34,10 +34,15 @@ BUSY_TIMEOUT_MS = 10_000  # wait this long for another writer before "database i
 def make_engine(url: str) -> Engine:
     """An engine for ``url`` with the store's connection settings applied."""
     if url.startswith("sqlite"):
-        path = url.split("///", 1)[-1]
+        path = url.split("///", 1)[-1] if "///" in url else ""
         if path and path != ":memory:":
             Path(path).parent.mkdir(parents=True, exist_ok=True)
-        engine = create_engine(url, connect_args={"timeout": BUSY_TIMEOUT_MS / 1000})
+            engine = create_engine(url, connect_args={"timeout": BUSY_TIMEOUT_MS / 1000})
+        else:  # one in-memory database shared by every session of this engine
+            from sqlalchemy.pool import StaticPool
+
+            engine = create_engine("sqlite://", poolclass=StaticPool,
+                                   connect_args={"check_same_thread": False})
         _sqlite_settings(engine)
         return engine
     try:

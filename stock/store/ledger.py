@@ -142,3 +142,38 @@ def positive(qty: int, what: str = "quantity") -> int:
     if not isinstance(qty, int) or isinstance(qty, bool) or qty <= 0:
         raise QuantityError(f"{what} must be a whole number above zero, not {qty!r}")
     return qty
+
+
+def post_many(session: Session, entries: list[tuple[int, int, int]], *, reason: Reason,
+              ref: str = "") -> int:
+    """Receive many (part id, drawer id, qty > 0) at once: one movement each, balances summed.
+
+    The bulk path of imports: one INSERT of movements, one of new balances, one UPDATE
+    per existing balance. Quantities must be positive (nothing can go below zero).
+    """
+    if any(q <= 0 for _, _, q in entries):
+        raise QuantityError("bulk receipts take positive quantities only")
+    if not entries:
+        return 0
+    session.execute(insert(Movement), [
+        dict(part_id=p, drawer_id=d, account=Account.ON_HAND.value, qty=q, reason=reason.value,
+             ref=ref, note="", key=None, build_id=None) for p, d, q in entries])
+    totals: dict[tuple[int, int], int] = {}
+    for p, d, q in entries:
+        totals[(p, d)] = totals.get((p, d), 0) + q
+    part_ids = sorted({p for p, _ in totals})
+    existing: set[tuple[int, int]] = set()
+    for i in range(0, len(part_ids), 500):
+        existing.update((int(a), int(b)) for a, b in session.execute(
+            select(Balance.part_id, Balance.drawer_id)
+            .where(Balance.part_id.in_(part_ids[i : i + 500]))))
+    new = [dict(part_id=p, drawer_id=d, on_hand=q, reserved=0)
+           for (p, d), q in totals.items() if (p, d) not in existing]
+    if new:
+        session.execute(insert(Balance), new)
+    for (p, d), q in totals.items():
+        if (p, d) in existing:
+            session.execute(update(Balance)
+                            .where(Balance.part_id == p, Balance.drawer_id == d)
+                            .values(on_hand=Balance.on_hand + q))
+    return len(entries)

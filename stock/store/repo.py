@@ -97,3 +97,28 @@ def load_specs(session: Session, ids: Sequence[int]) -> dict[int, PartSpec]:
 
 def load_spec(session: Session, pid: int) -> PartSpec:
     return load_specs(session, [pid])[pid]
+
+
+def insert_parts_bulk(session: Session, specs: Sequence[PartSpec]) -> dict[str, int]:
+    """Insert many new parts with their parameters; return {part key: id}."""
+    if not specs:
+        return {}
+    session.execute(insert(Part), [
+        dict(number=s.number.strip(), key=part_key(s.number), kind=s.kind.value, family=s.family,
+             package=s.package, pinout=s.pinout, description=s.description,
+             attrs=json.dumps(s.attrs, sort_keys=True), source=s.source) for s in specs])
+    ids = ids_by_key(session, [part_key(s.number) for s in specs])
+    rows = [dict(part_id=ids[part_key(s.number)], name=p.name, bound=Bound(p.bound).value,
+                 value=float(p.value), at=at_text(dict(p.at)), origin=Origin(p.origin).value)
+            for s in specs for p in s.params]
+    if rows:
+        session.execute(insert(ParamRow), rows)
+    return ids
+
+
+def ids_by_key(session: Session, keys: Sequence[str]) -> dict[str, int]:
+    out: dict[str, int] = {}
+    for i in range(0, len(keys), 500):
+        out.update((k, int(v)) for k, v in session.execute(
+            select(Part.key, Part.id).where(Part.key.in_(keys[i : i + 500]))))
+    return out

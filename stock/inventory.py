@@ -1,0 +1,111 @@
+"""Receiving parts: build the record of a part from what the builder typed, the store
+and the reference catalog, then put the quantity in a drawer through the ledger.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+from stock.errors import StockError
+from stock.kinds import Bound, Kind, normalise_family, parse_kind
+from stock.params import PARAMS
+from stock.parts import Origin, Param, PartSpec
+
+#: The parameter that holds a passive part's value, by kind.
+VALUE_PARAM = {Kind.RESISTOR: ("r", "Ω"), Kind.CAPACITOR: ("c", "F"), Kind.INDUCTOR: ("l", "H"),
+               Kind.CRYSTAL: ("f", "Hz")}
+
+
+@dataclass
+class Received:
+    """What :func:`add` did."""
+
+    part: PartSpec
+    created: bool
+    from_catalog: list[str] = field(default_factory=list)  # parameter names filled from it
+    recorded: bool = True  # False: the idempotency key had been used before
+
+
+def _catalog_spec(number: str, kind: Kind | None, family: str | None) -> PartSpec | None:
+    try:
+        from stock.catalog import load_catalog
+    except ModuleNotFoundError:  # pragma: no cover - the catalog ships with the package
+        return None
+    cat = load_catalog()
+    spec = cat.get(number)
+    if spec is None and kind is not None and family:
+        spec = cat.template(kind, family, number)
+    return spec
+
+
+def build_spec(number: str, *, kind: str | Kind | None = None, family: str | None = None,
+               package: str | None = None, pinout: str | None = None,
+               description: str = "", params: Sequence[str] = (),
+               existing: PartSpec | None = None, use_catalog: bool = True
+               ) -> tuple[PartSpec, list[str]]:
+    """The record for ``number``: existing or catalog values, then what the user typed.
+
+    Returns the spec and the names of parameters that came from the catalog. A passive
+    part named by its value (``4k7``, ``100n``) gets its value parameter from the name.
+    """
+    from stock.paramtext import parse_params
+    from stock.quantities import parse_value
+
+    k = parse_kind(kind) if isinstance(kind, str) else kind
+    base = existing
+    filled: list[str] = []
+    if base is None and use_catalog:
+        fam = normalise_family(k, family) if (k and family) else None
+        base = _catalog_spec(number, k, fam)
+        if base is not None:
+            base = PartSpec(number, base.kind, base.family, base.package, base.pinout,
+                            base.description, dict(base.attrs),
+                            [Param(p.name, p.bound, p.value, p.at, Origin.CATALOG)
+                             for p in base.params], base.source)
+            filled = sorted({p.name for p in base.params})
+    if base is None:
+        if k is None:
+            raise StockError(
+                f"{number!r} is not in the store or the catalog; say what it is with "
+                "--kind (bjt, fet, diode, capacitor, resistor, inductor, crystal, ic, other)"
+            )
+        base = PartSpec(number, k)
+    if k is not None and k != base.kind:
+        raise StockError(f"{number} is a {base.kind.value}, not a {k.value}; drop --kind "
+                         "or use another number")
+    user = parse_params(list(params), base.kind) if params else []
+    if base.kind in VALUE_PARAM and base.get(VALUE_PARAM[base.kind][0]) is None:
+        name, unit = VALUE_PARAM[base.kind]
+        if not any(p.name == name for p in user):
+            try:
+                v = parse_value(number.split()[0], unit, kind=base.kind)
+            except StockError:
+                v = None
+            if v is not None:
+                user.append(Param(name, PARAMS[name].bound, v.value))
+                if v.tol is not None and not any(p.name == "tol" for p in user):
+                    user += [Param("tol", Bound.MIN, v.tol[0]),
+                             Param("tol", Bound.MAX, v.tol[1])]
+    spec = base.with_params(user)
+    if family:
+        spec.family = normalise_family(spec.kind, family)
+    spec.package = package or spec.package
+    spec.pinout = pinout.upper() if pinout else spec.pinout
+    spec.description = description or spec.description
+    overridden = {p.name for p in user}
+    return spec, [n for n in filled if n not in overridden]
+
+
+def add(store, number: str, qty: int, drawer: str, *, ref: str = "", note: str = "",
+        key: str | None = None, **fields) -> Received:  # type: ignore[no-untyped-def]
+    """Receive ``qty`` of ``number`` into ``drawer``, creating or updating the part."""
+    from stock.store.ledger import positive
+
+    positive(qty)
+    existing = store.find_part(number)
+    spec, filled = build_spec(number, existing=existing, **fields)
+    spec, recorded = store.save_and_receive(spec, drawer, qty, ref=ref, note=note, key=key,
+                                            update=existing is None or spec != existing)
+    return Received(spec, existing is None, filled if existing is None else [], recorded)
+
