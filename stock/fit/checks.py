@@ -1,0 +1,506 @@
+"""Checks: one requirement held against one candidate part.
+
+Each :class:`Check` carries what was required, what the candidate has (with its
+datasheet bound and test conditions), the margin (a fraction, positive = headroom), the
+verdict and a one-line why. Requirements are held against *guaranteed* limits
+(``min``/``max``, ratings); a requirement met only by a ``typ`` value is a warning, and a
+parameter the record lacks is "unknown" — a warning, never a silent pass.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from enum import StrEnum
+
+from stock.fit.text import at_text, frac, si
+from stock.kinds import CAPACITOR_CLASS, POLARISED_FAMILIES, Bound, Kind
+from stock.params import PARAMS
+from stock.parts import Param, PartSpec
+from stock.rules import Policy
+from stock.slots import Op, Requirement, Slot, Source
+
+
+class Verdict(StrEnum):
+    """The outcome of one check."""
+
+    PASS = "pass"
+    WARN = "warn"
+    FAIL = "fail"
+
+
+@dataclass(frozen=True, slots=True)
+class Check:
+    """One requirement against one candidate."""
+
+    param: str
+    required: str  # rendered, e.g. ">= 50 V"
+    required_value: float | str | None
+    actual: float | str | None
+    actual_text: str
+    bound: Bound | None  # which datasheet bound ``actual`` is (min/typ/max/nom)
+    at: Mapping[str, float]  # test conditions of ``actual``
+    margin: float | None  # fraction; positive = headroom, negative = short by
+    verdict: Verdict
+    why: str
+    source: Source
+    rule: str | None
+
+
+_NO_AT: Mapping[str, float] = {}
+
+#: IEC 60384-14 replacement matrix ("same or better class"), facts.md §3.4. The positions
+#: and definitions are the standard's; the matrix itself is common practice. X3, Y3 and
+#: Y4 rows are from memory (impulse ratings below X2/Y2).
+SAFETY_ACCEPT: dict[str, frozenset[str]] = {
+    "X1": frozenset({"X1", "Y1"}),
+    "X2": frozenset({"X2", "X1", "Y2", "Y1"}),
+    "X3": frozenset({"X3", "X2", "X1", "Y2", "Y1"}),
+    "Y1": frozenset({"Y1"}),
+    "Y2": frozenset({"Y2", "Y1"}),
+    "Y3": frozenset({"Y3", "Y2", "Y1"}),
+    "Y4": frozenset({"Y4", "Y2", "Y1"}),
+}
+
+#: Temperature range implied by a dielectric code when the record states none
+#: (EIA-198 letters, facts.md §3.1/§3.3).
+DIELECTRIC_RANGE: dict[str, tuple[float, float]] = {
+    "c0g": (-55.0, 125.0),
+    "x7r": (-55.0, 125.0),
+    "x5r": (-55.0, 85.0),
+    "x6s": (-55.0, 105.0),
+    "y5v": (-30.0, 85.0),
+    "z5u": (10.0, 85.0),
+}
+
+#: Families whose rated voltage is derated by a policy rule (facts.md §5.7).
+_CAP_FRACTION_RULE = {
+    "tantalum": "cap_v_fraction_tantalum",
+    "tantalum-polymer": "cap_v_fraction_tantalum_polymer",
+    "electrolytic": "cap_v_fraction_electrolytic",
+    "polymer": "cap_v_fraction_electrolytic",
+}
+
+_STABLE_FAMILIES = frozenset({"c0g", "class1", "mica"})
+
+
+def _unit(param: str) -> str:
+    pdef = PARAMS.get(param)
+    return pdef.unit if pdef else ""
+
+
+def _label(param: str) -> str:
+    return param.upper() if len(param) <= 4 else param
+
+
+def _render_req(req: Requirement, unit: str, value: float | None = None,
+                prefer: float | None = None) -> str:
+    v = req.value if value is None else value
+    if isinstance(v, str):
+        return f"{req.op.value} {v}"
+    text = f"{req.op.value} {_fmt(req.param, v, unit)}"
+    if prefer is not None:
+        text += f" (prefer {req.op.value} {_fmt(req.param, prefer, unit)})"
+    if req.at:
+        text += " " + at_text(req.at)
+    return text
+
+
+def _fmt(param: str, v: float, unit: str) -> str:
+    if param == "tol":
+        return "±" + frac(v)
+    return si(v, unit)
+
+
+def _margin(op: Op, required: float, actual: float, unit: str) -> float | None:
+    if unit == "°C" or required == 0:
+        return None  # temperatures are not on a ratio scale
+    if op is Op.GE:
+        return (actual - required) / abs(required)
+    return (required - actual) / abs(required)
+
+
+def _met(op: Op, required: float, actual: float) -> bool:
+    # a relative epsilon: 4k7 ± 5 % must include exactly 4k7·1.05 after float rounding
+    eps = 1e-9 * max(abs(required), abs(actual))
+    return actual >= required - eps if op is Op.GE else actual <= required + eps
+
+
+def _unknown(req: Requirement, required: str, what: str = "") -> Check:
+    why = what or f"unknown: the record has no {req.param}; check the datasheet"
+    return Check(req.param, required, req.value, None, "unknown", None, _NO_AT, None,
+                 Verdict.WARN, why, req.source, req.rule)
+
+
+def _judge(req: Requirement, required: float, actual: float, bound: Bound | None,
+           guaranteed: bool, at: Mapping[str, float], unit: str, *,
+           prefer: float | None = None, actual_text: str | None = None,
+           rendered: str | None = None) -> Check:
+    """Compare and build the check (the common path of every numeric requirement)."""
+    op = req.op
+    rtext = rendered or _render_req(req, unit, required, prefer)
+    atext = actual_text or _fmt(req.param, actual, unit)
+    if bound is not None and bound is not Bound.NOM and actual_text is None:
+        atext += f" {bound.value}"
+        if at:
+            atext += " " + at_text(at)
+    margin = _margin(op, required, actual, unit)
+    label = _label(req.param)
+    if not _met(op, required, actual):
+        word = "below" if op is Op.GE else "above"
+        why = f"{label} {atext} is {word} {rtext.split(' (prefer')[0]}; {req.why}".rstrip("; ")
+        verdict = Verdict.WARN if req.warn_only else Verdict.FAIL
+    elif not guaranteed:
+        why = f"met only by a typical value ({atext}); nothing guarantees it"
+        verdict = Verdict.WARN
+    elif prefer is not None and not _met(op, prefer, actual):
+        why = (f"meets {_fmt(req.param, required, unit)} but not the preferred "
+               f"{_fmt(req.param, prefer, unit)}; {req.why}").rstrip("; ")
+        verdict = Verdict.WARN
+    else:
+        why = req.why or "meets the requirement"
+        verdict = Verdict.PASS
+    return Check(req.param, rtext, required, actual, atext, bound, at, margin, verdict, why,
+                 req.source, req.rule)
+
+
+# --- picking the candidate's value ---------------------------------------------------------
+
+def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, bool, str]:
+    """The candidate's value of ``req.param`` at the requirement's operating point.
+
+    Returns (param, guaranteed, note). For VF at a forward current: a guaranteed maximum
+    at the same or a higher current bounds VF at the working current (VF rises with IF);
+    for a varicap's C at a reverse voltage: a value within 10 % of that voltage.
+    """
+    key, want = req.at[0]
+    vals = part.values(req.param)
+    if not vals:
+        return None, False, ""
+    untagged = [p for p in vals if key not in p.at]
+    if req.param == "vf" and key == "if":
+        usable = [p for p in vals if key in p.at and p.at[key] >= want * (1 - 1e-9)]
+        for bounds in ((Bound.MAX,), (Bound.TYP, Bound.NOM)):
+            cands = [p for p in usable if p.bound in bounds]
+            if cands:
+                best = min(cands, key=lambda p: p.at[key])
+                return best, bounds == (Bound.MAX,), ""
+        for bounds in ((Bound.MAX,), (Bound.TYP, Bound.NOM)):
+            cands = [p for p in untagged if p.bound in bounds]
+            if cands:
+                return cands[0], bounds == (Bound.MAX,), "(no test current given)"
+        return None, False, "VF is given only at lower currents than the working point"
+    near = [p for p in vals if key in p.at and abs(p.at[key] - want) <= 0.1 * abs(want)]
+    order = (Bound.MIN,) if req.op is Op.GE else (Bound.MAX,)
+    for bounds in (order, (Bound.TYP, Bound.NOM)):
+        cands = [p for p in near if p.bound in bounds]
+        if cands:
+            return cands[0], bounds == order, ""
+    return None, False, f"no {req.param} given at {at_text(req.at)[2:]}"
+
+
+def _ambient_pd(part: PartSpec) -> Param | None:
+    """The free-air PD rating (not the one stated at a case temperature)."""
+    vals = part.values("pd")
+    for p in vals:
+        if "tc" not in p.at:
+            return p
+    return None
+
+
+def pd_at(part: PartSpec, ta: float) -> tuple[float | None, str]:
+    """PD(TA) = (Tj,max − TA)/RθJA, capped at the 25 °C rating (facts.md §5.3).
+
+    RθJA is taken from the record, else derived from PD(25 °C) and Tj,max the way
+    datasheets state the derating line. Returns (watts or None, how it was found).
+    """
+    p25 = _ambient_pd(part)
+    tj = part.get("tj")
+    rth = part.high("rth_ja")
+    pd25 = p25.value if p25 else None
+    t25 = p25.at.get("ta", 25.0) if p25 else 25.0
+    r = rth.value if rth else None
+    if r is None and pd25 and tj is not None and tj.value > t25:
+        r = (tj.value - t25) / pd25
+    if tj is None or r is None:
+        if pd25 is not None and ta <= t25:
+            return pd25, f"{si(pd25, 'W')} at {t25:g} °C"
+        return None, ""
+    derated = (tj.value - ta) / r
+    if pd25 is not None:
+        derated = min(derated, pd25)
+    how = f"{si(max(derated, 0.0), 'W')} at {ta:g} °C (Tj {tj.value:g} °C, RθJA {r:.3g} °C/W)"
+    return max(derated, 0.0), how
+
+
+# --- the special parameters ----------------------------------------------------------------
+
+def _check_family(part: PartSpec, req: Requirement) -> Check:
+    allowed = str(req.value).split("|")
+    shown = " or ".join(allowed)
+    rtext = f"= {shown}"
+    fam = part.family
+    if fam is None:
+        return _unknown(req, rtext, "unknown: the record has no family (polarity, channel, type)")
+    if fam in allowed:
+        return Check("family", rtext, req.value, fam, fam, None, _NO_AT, None, Verdict.PASS,
+                     req.why or "same family", req.source, req.rule)
+    verdict = Verdict.WARN if req.warn_only else Verdict.FAIL
+    return Check("family", rtext, req.value, fam, fam, None, _NO_AT, None, verdict,
+                 f"{fam} where {shown} is called for; {req.why}".rstrip("; "), req.source,
+                 req.rule)
+
+
+def _check_safety(part: PartSpec, req: Requirement) -> Check:
+    wanted = str(req.value).upper()
+    ok = SAFETY_ACCEPT.get(wanted, frozenset({wanted}))
+    rtext = f"class {wanted} or better ({', '.join(sorted(ok))})"
+    has = part.attrs.get("safety")
+    if not has:
+        return Check("safety", rtext, wanted, None, "no safety class", None, _NO_AT, None,
+                     Verdict.FAIL, "not an IEC 60384-14 safety capacitor: never use a plain "
+                     "capacitor in a mains position, whatever its DC rating", req.source, req.rule)
+    classes = {c.strip().upper() for c in has.replace(",", "/").split("/")}
+    if classes & ok:
+        return Check("safety", rtext, wanted, has, has, None, _NO_AT, None, Verdict.PASS,
+                     f"{has} is the same or a better class than {wanted} (IEC 60384-14)",
+                     req.source, req.rule)
+    return Check("safety", rtext, wanted, has, has, None, _NO_AT, None, Verdict.FAIL,
+                 f"{has} may not replace {wanted}: same or better class only "
+                 "(IEC 60384-14, facts.md §3.4)", req.source, req.rule)
+
+
+def _check_dielectric(part: PartSpec, req: Requirement) -> Check:
+    limit = int(float(req.value))
+    rtext = f"class <= {limit}" + (" (C0G/NP0, mica)" if limit == 1 else "")
+    fam = part.family
+    if fam is None:
+        return _unknown(req, rtext, "unknown: the record has no dielectric; check the marking")
+    cls = CAPACITOR_CLASS.get(fam)
+    strict = not req.warn_only
+    if cls is None:
+        if fam == "film" and limit == 1:
+            return Check("dielectric", rtext, limit, fam, "film", None, _NO_AT, None,
+                         Verdict.WARN, "film: polypropylene is stable enough, polyester drifts; "
+                         "check the film type", req.source, req.rule)
+        if fam in POLARISED_FAMILIES and limit == 1:
+            return Check("dielectric", rtext, limit, fam, fam, None, _NO_AT, None,
+                         Verdict.FAIL if strict else Verdict.WARN,
+                         f"{fam} in a frequency-determining position: only class 1 holds its "
+                         "value", req.source, req.rule)
+        return Check("dielectric", rtext, limit, fam, fam, None, _NO_AT, None, Verdict.PASS,
+                     f"{fam} is not a ceramic: no ceramic class to compare", req.source,
+                     req.rule)
+    atext = f"{fam} (class {cls})"
+    if cls <= limit:
+        return Check("dielectric", rtext, limit, fam, atext, None, _NO_AT, None, Verdict.PASS,
+                     req.why or "same or better dielectric", req.source, req.rule)
+    return Check("dielectric", rtext, limit, fam, atext, None, _NO_AT, None,
+                 Verdict.FAIL if strict else Verdict.WARN,
+                 f"class {cls} where class {limit} is called for; {req.why}".rstrip("; "),
+                 req.source, req.rule)
+
+
+def _check_polarised(part: PartSpec, req: Requirement) -> Check:
+    rtext = "non-polarised"
+    fam = part.family
+    if fam is None:
+        return _unknown(req, rtext, "unknown: the record has no family; is it polarised?")
+    if fam not in POLARISED_FAMILIES:
+        return Check("polarised", rtext, "no", "no", f"{fam}: non-polarised", None, _NO_AT,
+                     None, Verdict.PASS, "non-polarised", req.source, req.rule)
+    verdict = Verdict.WARN if req.warn_only else Verdict.FAIL
+    why = (f"{fam} is polarised: only where the DC across it never reverses, + to the higher "
+           "potential; reversed it can vent or burn") if req.warn_only else \
+          f"{fam} is polarised and this position is not: reversed it can vent or burn"
+    return Check("polarised", rtext, "no", "yes", f"{fam}: polarised", None, _NO_AT, None,
+                 verdict, why, req.source, req.rule)
+
+
+def _check_tol(part: PartSpec, req: Requirement) -> Check:
+    limit = float(req.value)
+    rtext = f"<= ±{frac(limit)}"
+    vals = part.values("tol")
+    if not vals:
+        return _unknown(req, rtext, "unknown: the record has no tolerance; check the marking")
+    worst = max(abs(p.value) for p in vals)
+    typ_only = all(p.bound is Bound.TYP for p in vals)
+    return _judge(req, limit, worst, None, not typ_only, _NO_AT, "",
+                  actual_text="±" + frac(worst), rendered=rtext)
+
+
+def _check_cap_voltage(part: PartSpec, req: Requirement, policy: Policy) -> Check:
+    working = float(req.value)
+    fam = part.family or ""
+    rule_id = _CAP_FRACTION_RULE.get(fam, "cap_v_fraction_other")
+    fraction = policy[rule_id]
+    required = working / fraction
+    prefer = None
+    if CAPACITOR_CLASS.get(fam, 1) >= 2:  # class-2/3 ceramics lose C under DC bias
+        prefer = working / policy["cap_v_fraction_class2"]
+    rated = part.get("v_rated")
+    r = Requirement(req.param, Op.GE, required, req.source,
+                    f"{fam or 'this dielectric'} at ≤ {frac(fraction)} of its rating "
+                    f"({rule_id}) for {si(working, 'V')} working", rule_id, req.warn_only)
+    rtext = _render_req(r, "V", required, prefer)
+    if rated is None:
+        return _unknown(r, rtext)
+    return _judge(r, required, rated.value, None, True, _NO_AT, "V", prefer=prefer,
+                  rendered=rtext)
+
+
+def _check_pd(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    dissipation = float(req.value)
+    ta = slot.conditions.ambient
+    if ta is None:
+        ta = policy["ambient_default"]
+    required = dissipation / policy["pd_fraction_max"]
+    prefer = dissipation / policy["pd_fraction_pref"]
+    rtext = f"PD({ta:g} °C) >= {si(required, 'W')} (prefer >= {si(prefer, 'W')})"
+    actual, how = pd_at(part, ta)
+    if actual is None:
+        return _unknown(req, rtext, "unknown: the record lacks PD, Tj or RθJA to derate at "
+                        f"{ta:g} °C; check the datasheet")
+    return _judge(req, required, actual, None, True, {"ta": ta}, "W", prefer=prefer,
+                  actual_text=how, rendered=rtext)
+
+
+def _check_crystal_f(part: PartSpec, req: Requirement, policy: Policy) -> Check:
+    want = float(req.value)
+    ppm_max = policy["xtal_f_ppm_max"]
+    rtext = f"= {si(want, 'Hz')} ± {ppm_max:g} ppm"
+    f = part.nominal("f")
+    if f is None:
+        return _unknown(req, rtext)
+    dev = (f - want) / want * 1e6
+    margin = (ppm_max - abs(dev)) / ppm_max
+    atext = f"{si(f, 'Hz')} ({dev:+.3g} ppm)"
+    if abs(dev) <= ppm_max:
+        return Check("f", rtext, want, f, atext, Bound.NOM, _NO_AT, margin, Verdict.PASS,
+                     req.why or "same nominal frequency", req.source, req.rule)
+    if part.get("c1") is not None:
+        # the pulling maths (facts.md §5.2) lives in stock.fit.crystal
+        from stock.errors import FitError
+        from stock.fit.crystal import reachable
+
+        try:
+            pulling = reachable(part, want, (policy["xtal_cl_min"], policy["xtal_cl_max"]))
+        except FitError as exc:
+            return _unknown(req, rtext, f"unknown: {exc}")
+        if pulling.known and pulling.reachable:
+            return Check("f", rtext, want, f, atext, Bound.NOM, _NO_AT, margin, Verdict.WARN,
+                         pulling.text + "; retune the load capacitors", req.source,
+                         "xtal_cl_max")
+    return Check("f", rtext, want, f, atext, Bound.NOM, _NO_AT, margin, Verdict.FAIL,
+                 f"{dev:+.3g} ppm off: beyond what the load capacitance can pull",
+                 req.source, req.rule)
+
+
+def _check_equal(part: PartSpec, req: Requirement, rel: float = 0.0) -> Check:
+    unit = _unit(req.param)
+    want = float(req.value)
+    rtext = f"= {si(want, unit)}" if req.param != "overtone" else f"= {want:g}"
+    have = part.nominal(req.param)
+    if have is None:
+        return _unknown(req, rtext)
+    same = abs(have - want) <= rel * abs(want) + 1e-18
+    atext = si(have, unit) if req.param != "overtone" else f"{have:g}"
+    verdict = Verdict.PASS if same else (Verdict.WARN if req.warn_only else Verdict.FAIL)
+    why = (req.why or "same") if same else f"{atext} where {rtext[2:]} is called for; {req.why}"
+    return Check(req.param, rtext, want, have, atext, Bound.NOM, _NO_AT, None, verdict,
+                 why.rstrip("; "), req.source, req.rule)
+
+
+def _check_temperature(part: PartSpec, req: Requirement) -> Check:
+    """tmax/tmin: from the record, else implied by the dielectric code (EIA-198)."""
+    p = part.get(req.param)
+    rtext = _render_req(req, "°C")
+    if p is not None:
+        return _judge(req, float(req.value), p.value, None, True, _NO_AT, "°C",
+                      rendered=rtext)
+    rng = DIELECTRIC_RANGE.get(part.family or "") if part.kind is Kind.CAPACITOR else None
+    if rng is None:
+        return _unknown(req, rtext)
+    value = rng[1] if req.param == "tmax" else rng[0]
+    return _judge(req, float(req.value), value, None, True, _NO_AT, "°C", rendered=rtext,
+                  actual_text=f"{value:g} °C (from the {part.family.upper()} code, EIA-198)")
+
+
+def _check_numeric(part: PartSpec, req: Requirement) -> Check:
+    unit = _unit(req.param)
+    value = float(req.value)
+    note = ""
+    if req.at:
+        p, guaranteed, note = _pick_at(part, req)
+        if p is None:
+            return _unknown(req, _render_req(req, unit, value, req.prefer),
+                            f"unknown: {note}" if note else "")
+        actual, bound, at = p.value, p.bound, p.at
+    else:
+        g = part.low(req.param) if req.op is Op.GE else part.high(req.param)
+        if g is None:
+            return _unknown(req, _render_req(req, unit, value, req.prefer))
+        actual, bound, guaranteed, at = g.value, g.bound, g.guaranteed, g.param.at
+        pdef = PARAMS.get(req.param)
+        if pdef is not None and pdef.sense != "char":
+            bound = None  # a rating or a nominal value: no min/typ/max to show
+    check = _judge(req, value, actual, bound, guaranteed, at, unit, prefer=req.prefer)
+    if note and check.verdict is Verdict.PASS:
+        return _replace_verdict(check, Verdict.WARN, f"{check.why} {note}")
+    return check
+
+
+def _replace_verdict(c: Check, verdict: Verdict, why: str) -> Check:
+    return Check(c.param, c.required, c.required_value, c.actual, c.actual_text, c.bound, c.at,
+                 c.margin, verdict, why, c.source, c.rule)
+
+
+_SWING_RULES = frozenset({"swing_class_abc", "swing_class_e"})
+
+
+def check_one(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    """Hold one requirement against one part."""
+    param = req.param
+    if param == "family":
+        return _check_family(part, req)
+    if param == "safety":
+        return _check_safety(part, req)
+    if param == "dielectric":
+        return _check_dielectric(part, req)
+    if param == "polarised":
+        return _check_polarised(part, req)
+    if param == "tol":
+        return _check_tol(part, req)
+    if param == "v_rated" and req.rule == "cap_v_fraction":
+        return _check_cap_voltage(part, req, policy)
+    if param == "pd" and req.rule == "pd_fraction_max":
+        return _check_pd(part, req, slot, policy)
+    if param in ("tmax", "tmin"):
+        return _check_temperature(part, req)
+    if part.kind is Kind.CRYSTAL and param == "f":
+        return _check_crystal_f(part, req, policy)
+    if req.op is Op.EQ and not isinstance(req.value, str):
+        return _check_equal(part, req, 0.05 if param == "cl" else 0.0)
+    if isinstance(req.value, str):
+        have = part.attrs.get(param)
+        ok = have is not None and have.lower() == req.value.lower()
+        return Check(param, f"= {req.value}", req.value, have, have or "unknown", None, _NO_AT,
+                     None, Verdict.PASS if ok else Verdict.WARN if have is None or req.warn_only
+                     else Verdict.FAIL, req.why or f"{param} must be {req.value}", req.source,
+                     req.rule)
+    check = _check_numeric(part, req)
+    if check.verdict is Verdict.FAIL and param == "vceo" and req.rule in _SWING_RULES:
+        # RF power transistors are specified with the base returned through a low
+        # impedance; VCER is then the practical limit (facts.md §5.6)
+        vcer = part.get("vcer")
+        if vcer is not None and vcer.value >= float(req.value):
+            return _replace_verdict(check, Verdict.WARN,
+                                    f"VCEO is short but VCER {si(vcer.value, 'V')} covers the "
+                                    "swing: only with the base returned through a low impedance")
+    return check
+
+
+def check_part(part: PartSpec, slot: Slot, reqs: list[Requirement], policy: Policy
+               ) -> list[Check]:
+    """Every requirement of a slot held against one candidate part."""
+    return [check_one(part, req, slot, policy) for req in reqs]

@@ -1,0 +1,262 @@
+"""The fit engine: assess candidates for a slot, rank them, and describe them as JSON.
+
+Pure: it works on :class:`~stock.parts.Stocked` candidates the store query yields (filtered
+by kind and family there first), a :class:`~stock.slots.Slot` and a
+:class:`~stock.rules.Policy`. No I/O.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from typing import Any
+
+from stock.errors import NotationError, UnknownPart
+from stock.fit.checks import check_part
+from stock.fit.dropin import dropin
+from stock.fit.rank import Assessment, Fitness, fitness_of, rank, versatility
+from stock.fit.requirements import requirements_for
+from stock.kinds import FAMILIES, Bound, Kind, normalise_family, parse_kind
+from stock.parts import Origin, Param, PartSpec, Stocked
+from stock.rules import Policy
+from stock.slots import Conditions, Op, Requirement, Role, Slot, Source
+
+#: Version of the JSON shape of one assessment (docs/fit.md); bump on any change.
+JSON_VERSION = 1
+
+
+def assess(slot: Slot, candidates: Iterable[Stocked], policy: Policy, *, need: int = 1,
+           include_failing: bool = False, demand: Mapping[str, int] | None = None
+           ) -> list[Assessment]:
+    """Check every candidate against the slot's requirements and rank them (best first).
+
+    ``need`` is the quantity the slot needs (a candidate with less free ranks lower);
+    ``demand`` counts, per part number, how many other slots could use the part (the
+    kit planner passes it) so that scarce parts are kept for the slots that need them.
+    Failing candidates are dropped unless ``include_failing``.
+    """
+    reqs = requirements_for(slot, policy)
+    called = slot.part
+    board_pkg = slot.package
+    board_pins = slot.pinout
+    if called is not None and (board_pkg or board_pins):
+        called = PartSpec(called.number, called.kind, called.family,
+                          board_pkg or called.package, board_pins or called.pinout)
+    elif called is None and (board_pkg or board_pins):
+        called = PartSpec(slot.calls_for, slot.kind, None, board_pkg, board_pins)
+    out: list[Assessment] = []
+    for s in candidates:
+        part = s.part
+        if part.kind is not slot.kind:
+            continue
+        checks = check_part(part, slot, reqs, policy)
+        fit, warnings, smallest = fitness_of(checks)
+        if fit is Fitness.FAILS and not include_failing:
+            continue
+        out.append(Assessment(s, checks, fit, dropin(called, part), smallest, warnings,
+                              versatility=versatility(checks)))
+    return rank(out, need=need, ample=policy["rank_margin_ample"], demand=demand)
+
+
+def _num(v: Any) -> Any:
+    return v if not isinstance(v, float) else float(f"{v:.6g}")
+
+
+def assessment_json(a: Assessment) -> dict[str, Any]:
+    """One candidate as the documented ``--json`` shape (docs/fit.md)."""
+    part = a.stocked.part
+    return {
+        "rank": a.rank,
+        "part": part.number,
+        "kind": part.kind.value,
+        "family": part.family,
+        "package": part.package,
+        "pinout": part.pinout,
+        "free": a.stocked.free,
+        "drawers": [{"drawer": d, "free": n} for d, n in a.stocked.drawers],
+        "to_buy": a.stocked.to_buy,
+        "fitness": a.fitness.value,
+        "warnings": a.warnings,
+        "smallest_margin": _num(a.smallest_margin),
+        "dropin": {"verdict": a.dropin.verdict.value, "text": a.dropin.text,
+                   "mapping": [list(m) for m in a.dropin.mapping] if a.dropin.mapping else None},
+        "checks": [
+            {
+                "param": c.param,
+                "required": c.required,
+                "required_value": _num(c.required_value),
+                "actual": _num(c.actual),
+                "actual_text": c.actual_text,
+                "bound": c.bound.value if c.bound else None,
+                "at": {k: _num(v) for k, v in c.at.items()},
+                "margin": _num(c.margin),
+                "verdict": c.verdict.value,
+                "why": c.why,
+                "source": c.source.value,
+                "rule": c.rule,
+            }
+            for c in a.checks
+        ],
+    }
+
+
+# --- building a slot from the command line ---------------------------------------------
+
+_VALUE_UNIT = {Kind.RESISTOR: "Ω", Kind.CAPACITOR: "F", Kind.INDUCTOR: "H", Kind.CRYSTAL: "Hz"}
+_VALUE_PARAM = {Kind.RESISTOR: "r", Kind.CAPACITOR: "c", Kind.INDUCTOR: "l", Kind.CRYSTAL: "f"}
+_SAFETY = frozenset({"X1", "X2", "X3", "Y1", "Y2", "Y3", "Y4"})
+
+
+def _parse(text: str, unit: str, kind: Kind | None = None) -> Any:
+    from stock.quantities import parse_value
+
+    return parse_value(text, unit, kind=kind)
+
+
+def resolve_value_slot(text: str, kind: Kind) -> PartSpec:
+    """A part record from a value written on a slot: ``4k7``, ``100n C0G 50V``, ``10n X2``.
+
+    The first word is the value (builders' notation or a marking code); the rest may be a
+    family (dielectric, resistor technology), a rated voltage (``50V``, ``275VAC``), a
+    power (``0.25W``), a tolerance (``5%``), a safety class (``X2``, ``X1/Y2``) or, for a
+    crystal, its load capacitance (``20pF``). Raises :class:`NotationError` naming a word
+    it cannot read.
+    """
+    if kind not in _VALUE_UNIT:
+        raise NotationError(f"{text!r}: only resistor, capacitor, inductor and crystal values "
+                            f"can be written as values, not a {kind.value}; give a part number")
+    words = text.split()
+    if not words:
+        raise NotationError("empty value; write it like 4k7, 100n C0G 50V or 22uH")
+    unit = _VALUE_UNIT[kind]
+    # the value may be written with a space before its unit: "4.7 kΩ", "10.106 MHz"
+    try:
+        value = _parse(" ".join(words[:2]), unit, kind) if len(words) > 1 else None
+        rest = words[2:]
+    except NotationError:
+        value = None
+    if value is None:
+        value = _parse(words[0], unit, kind)
+        rest = words[1:]
+    params: list[Param] = [Param(_VALUE_PARAM[kind], Bound.NOM, value.value, {}, Origin.USER)]
+    tol = value.tol
+    family: str | None = None
+    attrs: dict[str, str] = {}
+    for w in rest:
+        up = w.upper()
+        if all(part in _SAFETY for part in up.split("/")):
+            attrs["safety"] = up
+            continue
+        try:
+            family = normalise_family(kind, w)
+            continue
+        except ValueError:
+            pass
+        if w.endswith("%"):
+            t = float(w.lstrip("±+").rstrip("%").strip()) / 100
+            tol = (-t, t)
+            continue
+        if up.endswith(("VAC", "VDC", "V")):
+            name = "v_ac" if up.endswith("VAC") else "v_rated"
+            params.append(Param(name, Bound.MAX, _parse(up.removesuffix("AC").removesuffix("DC"),
+                                                        "V").value))
+            continue
+        if up.endswith("W") and kind is Kind.RESISTOR:
+            if "/" in w:
+                a, b = w[:-1].split("/", 1)
+                watts = float(a) / float(b)
+            else:
+                watts = _parse(w, "W").value
+            params.append(Param("p_rated", Bound.MAX, watts))
+            continue
+        if kind is Kind.CRYSTAL and up.endswith("F"):
+            params.append(Param("cl", Bound.NOM, _parse(w, "F").value))
+            continue
+        raise NotationError(f"cannot read {w!r} in {text!r}; write a family (C0G, X7R, "
+                            "metal-film), a voltage (50V), a power (0.25W), a tolerance (5%) "
+                            "or a safety class (X2)")
+    if tol is not None:
+        params += [Param("tol", Bound.MIN, tol[0]), Param("tol", Bound.MAX, tol[1])]
+    return PartSpec(text.strip(), kind, family, None, None, "a value written on the slot",
+                    attrs, params)
+
+
+def _guess_kind(text: str) -> Kind | None:
+    first = text.split()[0] if text.split() else ""
+    for kind in (Kind.RESISTOR, Kind.CAPACITOR, Kind.INDUCTOR, Kind.CRYSTAL):
+        try:
+            v = _parse(first, _VALUE_UNIT[kind])
+        except (NotationError, ValueError):
+            continue
+        if v.unit == _VALUE_UNIT[kind] or (kind is Kind.RESISTOR and v.unit in (None, "Ω")):
+            return kind
+    return None
+
+
+def parse_role(text: str | Role | None) -> Role:
+    """A role name (``pa-c``, ``audio-amp``) as a :class:`Role`; ValueError naming choices."""
+    if text is None:
+        return Role.GENERAL
+    if isinstance(text, Role):
+        return text
+    key = text.strip().lower().replace("_", "-").replace(" ", "-")
+    try:
+        return Role(key)
+    except ValueError:
+        from stock.errors import suggest
+
+        roles = [r.value for r in Role]
+        raise ValueError(f"unknown role {text!r}{suggest(key, roles)}; use one of: "
+                         f"{', '.join(roles)}") from None
+
+
+def slot_from_args(calls_for: str, *, kind: Kind | str | None = None,
+                   role: Role | str | None = None, conditions: Conditions | None = None,
+                   needs: Sequence[str] = (),
+                   resolve: Callable[[str], PartSpec | None] | None = None,
+                   package: str | None = None, pinout: str | None = None) -> Slot:
+    """A slot from command-line words: what is called for, role, conditions, bounds.
+
+    ``resolve`` looks a part number up (the store's ``find_part``); a value such as
+    ``4k7`` or ``100n C0G 50V`` becomes a part record through :func:`resolve_value_slot`;
+    a bare family (``npn``, ``n-mosfet``) with ``kind`` makes a slot with no called-for
+    part. ``needs`` are explicit bounds (``vceo>=60V``): they win over everything else.
+    """
+    k = parse_kind(kind) if isinstance(kind, str) else kind
+    r = parse_role(role)
+    part = resolve(calls_for) if resolve is not None else None
+    reqs: list[Requirement] = []
+    if part is not None:
+        k = k or part.kind
+        if part.kind is not k:
+            raise ValueError(f"{calls_for} is a {part.kind.value}, not a {k.value}; "
+                             "drop --kind or name another part")
+    else:
+        k = k or _guess_kind(calls_for)
+        if k is None:
+            raise UnknownPart(f"no part {calls_for!r} in the store or the catalog; add it "
+                              "with 'stock add', or give --kind and --need bounds")
+        fam = None
+        if FAMILIES.get(k) and calls_for.strip():
+            try:
+                fam = normalise_family(k, calls_for)
+            except ValueError:
+                fam = None
+        if fam is not None:
+            reqs.append(Requirement("family", Op.EQ, fam, Source.USER,
+                                    "written on the command line"))
+        elif k in _VALUE_UNIT:
+            part = resolve_value_slot(calls_for, k)
+        else:
+            raise UnknownPart(f"no part {calls_for!r} in the store or the catalog; add it "
+                              f"with 'stock add', or write a {k.value} family "
+                              f"({', '.join(FAMILIES[k])}) with --need bounds")
+    if needs:
+        from stock.paramtext import parse_criterion
+
+        for text in needs:
+            c = parse_criterion(text, k)
+            reqs.append(Requirement(c.param, c.op, c.value, Source.USER,
+                                    f"written on the command line ({text})"))
+    return Slot(refs=[], qty=1, calls_for=calls_for, kind=k, part=part, role=r,
+                conditions=conditions or Conditions(), requirements=reqs,
+                package=package, pinout=pinout.upper().replace("-", "") if pinout else None)

@@ -1,0 +1,119 @@
+"""Verdicts per candidate and the ranking of candidates for one slot.
+
+Order: failing candidates last (shown only when asked), then fewer warnings, then a larger
+smallest margin (margins above ``rank_margin_ample`` all count as ample, in 10 % steps),
+then drop-in before reversed before crossed leads, then enough free quantity, then the
+part fewer other slots could use (``demand``) and the one least over-qualified on scarce
+capabilities (fT, voltage), so the one UHF transistor is not spent on an audio stage.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+from enum import StrEnum
+
+from stock.fit.checks import Check, Verdict
+from stock.fit.dropin import DROPIN_ORDER, DropIn
+from stock.parts import Stocked, part_key
+from stock.slots import Op
+
+
+class Fitness(StrEnum):
+    """The electrical verdict on one candidate."""
+
+    FITS = "fits"
+    FITS_WITH_WARNINGS = "fits with warnings"
+    FAILS = "fails"
+
+
+@dataclass
+class Assessment:
+    """One candidate for one slot: its checks, verdicts and rank (1 = best)."""
+
+    stocked: Stocked
+    checks: list[Check]
+    fitness: Fitness
+    dropin: DropIn
+    smallest_margin: float | None
+    warnings: int
+    rank: int = 0
+    versatility: float = 0.0  # over-qualification on scarce capabilities (log10 units)
+    demand: int = 0  # how many other slots could use this part (kit planner's count)
+
+    @property
+    def part(self) -> str:
+        return self.stocked.part.number
+
+    @property
+    def failures(self) -> list[Check]:
+        return [c for c in self.checks if c.verdict is Verdict.FAIL]
+
+    @property
+    def deciding(self) -> Check | None:
+        """The check that decides the verdict: the worst failure, else the worst warning,
+        else the check with the smallest margin."""
+        for v in (Verdict.FAIL, Verdict.WARN):
+            hits = [c for c in self.checks if c.verdict is v]
+            if hits:
+                return min(hits, key=lambda c: math.inf if c.margin is None else c.margin)
+        with_margin = [c for c in self.checks if c.margin is not None]
+        return min(with_margin, key=lambda c: c.margin) if with_margin else None  # type: ignore
+
+
+#: Parameters whose surplus is a scarce capability worth keeping for slots that need it.
+SCARCE = frozenset({"ft", "vceo", "vds", "vrrm", "v_rated", "pd", "ic", "id", "isat"})
+
+
+def fitness_of(checks: list[Check]) -> tuple[Fitness, int, float | None]:
+    """(fitness, number of warnings, smallest margin) of a list of checks."""
+    warnings = 0
+    failed = False
+    smallest: float | None = None
+    for c in checks:
+        if c.verdict is Verdict.FAIL:
+            failed = True
+        elif c.verdict is Verdict.WARN:
+            warnings += 1
+        if c.margin is not None and (smallest is None or c.margin < smallest):
+            smallest = c.margin
+    if failed:
+        return Fitness.FAILS, warnings, smallest
+    return (Fitness.FITS_WITH_WARNINGS if warnings else Fitness.FITS), warnings, smallest
+
+
+def versatility(checks: list[Check]) -> float:
+    """Sum of log10(actual/required) over scarce ``>=`` checks: how over-qualified a part is."""
+    total = 0.0
+    for c in checks:
+        if c.param in SCARCE and c.required.startswith(Op.GE.value) and \
+                isinstance(c.actual, float | int) and isinstance(c.required_value, float | int) \
+                and c.required_value > 0 and c.actual > c.required_value:
+            total += math.log10(c.actual / c.required_value)
+    return total
+
+
+def sort_key(a: Assessment, need: int, ample: float) -> tuple:
+    """The ranking key (smaller is better); see the module docstring."""
+    fails = 1 if a.fitness is Fitness.FAILS else 0
+    if a.smallest_margin is None:
+        band = 0.0  # nothing measured: rank as a thin margin
+    else:
+        band = math.floor(min(a.smallest_margin, ample) * 10 + 1e-9) / 10
+    short = 0 if a.stocked.free >= need else 1
+    return (fails, len(a.failures), a.warnings, -band, DROPIN_ORDER[a.dropin.verdict], short,
+            a.demand, round(a.versatility, 2), a.stocked.to_buy, part_key(a.part))
+
+
+def rank(assessments: list[Assessment], *, need: int = 1, ample: float = 0.5,
+         demand: Mapping[str, int] | None = None) -> list[Assessment]:
+    """Sort in place by :func:`sort_key` and number the ranks from 1."""
+    if demand:
+        folded = {part_key(k): v for k, v in demand.items()}
+        for a in assessments:
+            a.demand = folded.get(part_key(a.part), 0)
+    assessments.sort(key=lambda a: sort_key(a, need, ample))
+    for i, a in enumerate(assessments, 1):
+        a.rank = i
+    return assessments
