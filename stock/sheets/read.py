@@ -89,7 +89,7 @@ def normalize_header(text: str) -> str:
 
 # --- spreadsheet mangling patterns (text columns of a CSV file) --------------------------------
 # Spreadsheets turn typed text that looks like a day and month into a date and export the date in
-# the display format of the locale: ISO, d/m/y or m/d/y, d.m.yyyy, or d-Mmm (Excel's default for
+# the display format of the locale: ISO, d/m/y or m/d/y, d.m.yyyy, or d-Mmm (the common default for
 # "1-10" is "1-Oct" or "10-Jan"; "10-50" becomes "Oct-50"). Month abbreviations as displayed by
 # the spreadsheet are title case, which keeps upper-case part names such as "MAR-6" clear.
 _MONTHS = "Jan|Feb|Mar|Apr|May|Jun|Jul|Aug|Sep|Oct|Nov|Dec"
@@ -369,6 +369,19 @@ def _header_text(value: Any) -> str:
     return "" if value is None else str(value)
 
 
+def _closest(spellings: Sequence[str], headers: Sequence[str]) -> str:
+    """' (did you mean X?)' for the headers closest to any spelling of a column, or ''."""
+    import difflib
+
+    by_key = {normalize_header(h): h for h in headers}
+    close: list[str] = []
+    for spelling in spellings:
+        for key in difflib.get_close_matches(normalize_header(spelling), list(by_key), cutoff=0.6):
+            if by_key[key] not in close:
+                close.append(by_key[key])
+    return f" (did you mean {', '.join(close[:3])}?)" if close else ""
+
+
 def _build_lookup(
     columns: Mapping[str, Sequence[str]], mapping: Mapping[str, str] | None, file: str
 ) -> dict[str, str]:
@@ -432,6 +445,7 @@ class _Reader:
         self.comma_row: tuple[int, str] | None = None  # first decimal comma (row, text)
         self.point_row: tuple[int, str] | None = None  # first decimal point (row, text)
         self.suspect_numbers: dict[tuple[int, int], tuple[str, str]] = {}
+        self.spellings = columns
         lookup = _build_lookup(columns, mapping, source.file)
         head, self._pending = self._find_header(lookup, required, mapping or {})
         self.header_row, header_cells = head
@@ -489,9 +503,10 @@ class _Reader:
         missing = [name for name in required if name not in best]
         if missing:
             unmatched = [h for h in headers if normalize_header(h) not in lookup]
+            spellings = [missing[0], *self.spellings.get(missing[0], ())]
             raise ImportFileError(
                 f"no {' or '.join(missing)} column in the header row (headers: "
-                f"{', '.join(headers)}){suggest(missing[0], unmatched)}; rename the header or "
+                f"{', '.join(headers)}){_closest(spellings, unmatched)}; rename the header or "
                 f"use --map {missing[0]}=HEADER",
                 **self._where(number),
             )
