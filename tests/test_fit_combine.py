@@ -27,6 +27,12 @@ from stock.fit.combine import (
 from stock.kinds import Bound, Kind
 from stock.parts import Param, PartSpec, Stocked
 
+
+def approx(expected, rel: float = 1e-6, abs: float = 0.0):
+    """pytest.approx without its default absolute slack of 1e-12, which would swallow pF."""
+    return pytest.approx(expected, rel=rel, abs=abs)
+
+
 CASES = tomllib.loads(
     (Path(__file__).parent / "data" / "formula_cases.toml").read_text(encoding="utf-8")
 )
@@ -50,9 +56,9 @@ def test_combine_value_worked_examples(case: dict) -> None:
                                    Kind(case["kind"]),
                                    stacking=case.get("stacking", "worst-case"))
     rel = case["rel"]
-    assert nom == pytest.approx(case["nominal"], rel=rel)
-    assert low == pytest.approx(case["low"], rel=rel)
-    assert high == pytest.approx(case["high"], rel=rel)
+    assert nom == approx(case["nominal"], rel=rel)
+    assert low == approx(case["low"], rel=rel)
+    assert high == approx(case["high"], rel=rel)
 
 
 def test_worked_relative_tolerances() -> None:
@@ -60,14 +66,14 @@ def test_worked_relative_tolerances() -> None:
     # 100 n ±10 % ∥ 47 n ±5 % → ±8.40 %
     nom, low, high = combine_value([(4.7e3, -0.05, 0.05), (1e3, -0.01, 0.01)], "series",
                                    Kind.RESISTOR)
-    assert (high - nom) / nom == pytest.approx(0.0430, abs=5e-5)
+    assert (high - nom) / nom == approx(0.0430, abs=5e-5)
     nom, low, high = combine_value([(4.7e3, -0.05, 0.05), (1e3, -0.01, 0.01)], "parallel",
                                    Kind.RESISTOR)
-    assert (low - nom) / nom == pytest.approx(-0.0173, abs=5e-5)
-    assert (high - nom) / nom == pytest.approx(0.0168, abs=5e-5)
+    assert (low - nom) / nom == approx(-0.0173, abs=5e-5)
+    assert (high - nom) / nom == approx(0.0168, abs=5e-5)
     nom, low, high = combine_value([(100e-9, -0.1, 0.1), (47e-9, -0.05, 0.05)], "parallel",
                                    Kind.CAPACITOR)
-    assert (high - nom) / nom == pytest.approx(0.0840, abs=5e-5)
+    assert (high - nom) / nom == approx(0.0840, abs=5e-5)
 
 
 def test_combine_value_rejects_nonsense() -> None:
@@ -109,7 +115,7 @@ def test_substitution_cases(case: dict) -> None:
     lo = case["target"] * (1 + case["tol"][0])
     hi = case["target"] * (1 + case["tol"][1])
     assert lo * (1 - 1e-9) <= best.low <= best.nominal <= best.high <= hi * (1 + 1e-9)
-    assert best.error == pytest.approx((best.nominal - case["target"]) / case["target"])
+    assert best.error == approx((best.nominal - case["target"]) / case["target"])
     if "ok" in case:
         assert best.ok is case["ok"]
         assert any(("OVER" if not case["ok"] else ": ok") in note for note in best.checks)
@@ -133,7 +139,7 @@ def test_parallel_resistor_power_share() -> None:
                                        power=0.5, policy={"r_p_fraction_max": 0.6})
     r1, r2 = 990.0, 4935.0
     share = 0.5 * (r1 * r2 / (r1 + r2)) / r1  # P·R_total/R_i = P·R2/(R1+R2)
-    assert share == pytest.approx(0.4165, abs=1e-4)
+    assert share == approx(0.4165, abs=1e-4)
     assert any("416 mW" in note and "R-1k0" in note for note in best.checks)
     assert best.ok  # 0.42 W ≤ 0.6 × 1 W
 
@@ -143,7 +149,7 @@ def test_notes_unknown_tolerance_mixed_dielectric_polarised_and_coupling() -> No
     r = make("R-10k-untol", Kind.RESISTOR, 10e3, None, 2)
     assert part_tolerance(r.part) == (-0.2, 0.2, False)
     (best, *_rest) = find_combinations(20e3, (-0.2, 0.2), Kind.RESISTOR, [r])
-    assert best.low == pytest.approx(16e3) and best.high == pytest.approx(24e3)
+    assert best.low == approx(16e3) and best.high == approx(24e3)
     assert any("±20 %" in n for n in best.checks)
     # mixed dielectrics and polarised parts in series (facts.md §3.3, §5.4)
     e1 = make("C-10u-elko", Kind.CAPACITOR, 10e-6, 0.2, 1, "electrolytic", v_rated=25.0)
@@ -260,7 +266,7 @@ def test_every_result_is_sound_and_ranked(rows, target, tol) -> None:
             tm, tp, _ = part_tolerance(s.part)
             parts.append((s.part.nominal("r"), tm, tp))
         nom, low, high = combine_value(parts, c.topology, kind)
-        assert (nom, low, high) == pytest.approx((c.nominal, c.low, c.high))
+        assert (nom, low, high) == approx((c.nominal, c.low, c.high))
         assert target * (1 - tol) * (1 - 1e-9) <= low <= nom <= high
         assert high <= target * (1 + tol) * (1 + 1e-9)
         for s in set(map(id, c.parts)):
@@ -294,32 +300,32 @@ def test_equal_tolerances_keep_the_relative_tolerance(values, t, topology, kind)
     if len(values) != 3 and topology in (Topology.SERIES_PARALLEL, Topology.PARALLEL_SERIES):
         values = [*values, values[0]]
     nom, low, high = combine_value([(v, -t, t) for v in values], topology, kind)
-    assert low == pytest.approx(nom * (1 - t), rel=1e-9)
-    assert high == pytest.approx(nom * (1 + t), rel=1e-9)
+    assert low == approx(nom * (1 - t), rel=1e-9)
+    assert high == approx(nom * (1 + t), rel=1e-9)
 
 
 @given(a=st.floats(1e-3, 1e7), b=st.floats(1e-3, 1e7))
 def test_series_and_parallel_formulas(a, b) -> None:
     # facts.md §5.4: R in series add, R in parallel add as reciprocals; C the other way round
     assert combine_value([(a, 0, 0), (b, 0, 0)], "series", Kind.RESISTOR)[0] == \
-        pytest.approx(a + b)
+        approx(a + b)
     assert combine_value([(a, 0, 0), (b, 0, 0)], "parallel", Kind.RESISTOR)[0] == \
-        pytest.approx(1 / (1 / a + 1 / b))
+        approx(1 / (1 / a + 1 / b))
     assert combine_value([(a, 0, 0), (b, 0, 0)], "parallel", Kind.CAPACITOR)[0] == \
-        pytest.approx(a + b)
+        approx(a + b)
     assert combine_value([(a, 0, 0), (b, 0, 0)], "series", Kind.CAPACITOR)[0] == \
-        pytest.approx(1 / (1 / a + 1 / b))
+        approx(1 / (1 / a + 1 / b))
 
 
 def test_rss_is_narrower_than_worst_case() -> None:
     # facts.md §5.4 [CP]: RSS ΔX = √Σ(Xi·ti)²; for n equal parts that is worst case / √n
     wc = combine_value([(1e3, -0.05, 0.05)] * 3, "series", Kind.RESISTOR)
     rss = combine_value([(1e3, -0.05, 0.05)] * 3, "series", Kind.RESISTOR, stacking="rss")
-    assert (rss[2] - rss[0]) == pytest.approx((wc[2] - wc[0]) / math.sqrt(3))
+    assert (rss[2] - rss[0]) == approx((wc[2] - wc[0]) / math.sqrt(3))
 
 
 def test_describe_and_excursion() -> None:
     r = make("R-1k0", Kind.RESISTOR, 1e3, 0.01, 3)
     combo = Combination(Topology.SERIES_PARALLEL, (r, r, r), 1500.0, 1485.0, 1515.0, 0.0)
     assert combo.describe() == "R-1k0 + (R-1k0 ∥ R-1k0)"
-    assert combo.excursion == pytest.approx(0.01)
+    assert combo.excursion == approx(0.01)
