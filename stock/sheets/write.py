@@ -178,8 +178,8 @@ def _write_sheet(
             )
         for col, raw in enumerate(row):
             value = _scalar(raw)
-            if value is None:
-                continue
+            if value is None or value == "":
+                continue  # an empty cell, as in CSV (not an empty string cell)
             cell_format = column_formats[col]
             if isinstance(value, bool):
                 sheet.write_boolean(number, col, value, cell_format)
