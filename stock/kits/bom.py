@@ -65,6 +65,19 @@ PREFIX_KINDS: dict[str, Kind] = {
 _FET_WORDS = re.compile(r"\b(?:fet|mosfet|jfet|n-?channel|p-?channel|nmos|pmos)\b", re.I)
 _BJT_WORDS = re.compile(r"\b(?:npn|pnp|bipolar|bjt)\b", re.I)
 
+#: Words of a description that tell the kind when the designator letters cannot
+#: (common practice; checked in order, so "schottky diode" is a diode).
+_KIND_WORDS: tuple[tuple[re.Pattern[str], Kind], ...] = tuple(
+    (re.compile(rf"\b(?:{words})\b", re.I), kind) for words, kind in (
+        (r"resistors?|potentiometer|trimpot", Kind.RESISTOR),
+        (r"capacitors?|cap|electrolytic|trimmer capacitor", Kind.CAPACITOR),
+        (r"inductors?|choke|coil|rfc", Kind.INDUCTOR),
+        (r"crystal|xtal|resonator", Kind.CRYSTAL),
+        (r"diodes?|schottky|zener|rectifier|led|varicap", Kind.DIODE),
+        (r"regulator|op-?amp|ic|amplifier ic|timer", Kind.IC),
+        (r"transistor|npn|pnp", Kind.BJT),
+    ))
+
 #: Cell texts that mark a position as not fitted (common practice of BOM exports).
 NOT_FITTED = frozenset({"dnp", "dnf", "nf", "nofit", "notfitted", "donotplace", "donotfit",
                         "nopop", "np"})
@@ -100,6 +113,10 @@ def guess_kind(refs: list[str], kind_cell: str, description: str, part: str) -> 
         return Kind.FET
     if kind is Kind.OTHER and _BJT_WORDS.search(words):
         return Kind.BJT
+    if kind is Kind.OTHER:
+        for pattern, k in _KIND_WORDS:
+            if pattern.search(description):
+                return k
     return kind
 
 
