@@ -85,7 +85,9 @@ def suggest(name: str, choices: list[str], limit: int = 3) -> str:
     """Return ' (did you mean X, Y?)' for the closest of ``choices``, or ''."""
     import difflib
 
-    close = difflib.get_close_matches(name, choices, n=limit, cutoff=0.6)
+    # short labels (A1, A7) differ by one character in two: a ratio of 0.5
+    cutoff = 0.5 if len(name) <= 3 else 0.6
+    close = difflib.get_close_matches(name, choices, n=limit, cutoff=cutoff)
     if not close:
         upper = name.upper()
         close = [c for c in choices if upper in c.upper()][:limit]

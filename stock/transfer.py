@@ -226,8 +226,9 @@ def export_store(store, path: str | Path) -> dict[str, int]:  # type: ignore[no-
     data = snapshot(store)
     p = Path(path)
     if p.suffix.lower() == ".xlsx":
-        write_table(p, SHEETS["parts"], data["parts"], sheet="parts",
-                    sheets={name: (SHEETS[name], data[name]) for name in SHEETS})
+        first, *rest = SHEETS
+        write_table(p, SHEETS[first], data[first], sheet=first,
+                    sheets={name: (SHEETS[name], data[name]) for name in rest})
     elif p.suffix:
         raise StockError(f"cannot export to {p.name}: give a .xlsx file or a folder name for CSV")
     else:
@@ -235,6 +236,11 @@ def export_store(store, path: str | Path) -> dict[str, int]:  # type: ignore[no-
         for name, cols in SHEETS.items():
             write_table(p / f"{name}.csv", cols, data[name])
     return {k: len(v) for k, v in data.items()}
+
+
+#: Export columns read as they are: numbers, and timestamps we wrote ourselves (the
+#: mangled-date check of text columns would take an ISO timestamp for a spreadsheet's doing).
+_PLAIN = frozenset({"value", "qty", "copies", "built", "seq", "at", "created_at"})
 
 
 def _read_export(path: Path) -> dict[str, list[dict[str, str]]]:
@@ -250,8 +256,7 @@ def _read_export(path: Path) -> dict[str, list[dict[str, str]]]:
                 raise StockError(f"{src} is missing; a CSV export is a folder with "
                                  + ", ".join(f"{n}.csv" for n in SHEETS))
         table = read_table(src, columns={c: [c] for c in cols}, required=cols, sheet=sheet,
-                           text_columns=[c for c in cols if c not in ("value", "qty", "copies",
-                                                                      "built", "seq")])
+                           text_columns=[c for c in cols if c not in _PLAIN])
         out[name] = [r.cells for r in table.rows]
     return out
 
