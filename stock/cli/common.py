@@ -22,9 +22,11 @@ DbOpt = Annotated[
                  help="Store to use: an SQLite file path or a postgresql:// URL. "
                       "Default: stock.db in your data folder."),
 ]
-JsonOpt = Annotated[bool, typer.Option("--json", help="Print JSON (stable shape) instead of a table.")]
+JsonOpt = Annotated[bool, typer.Option("--json",
+                                       help="Print JSON (stable shape) instead of a table.")]
 DryRunOpt = Annotated[bool, typer.Option("--dry-run", help="Check everything, write nothing.")]
-CopiesOpt = Annotated[int, typer.Option("--copies", "-n", min=1, help="How many copies of the kit.")]
+CopiesOpt = Annotated[int, typer.Option("--copies", "-n", min=1,
+                                        help="How many copies of the kit.")]
 
 
 class StockGroup(TyperGroup):

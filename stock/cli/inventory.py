@@ -7,9 +7,9 @@ from typing import Annotated
 
 import typer
 
+from stock.cli import app
 from stock.cli.common import DbOpt, JsonOpt, emit_json, open_db, say, table
 from stock.cli.render import holding_json, param_rows, part_json, stocked_row
-from stock.cli import app
 
 
 @app.command()
