@@ -166,37 +166,42 @@ def _judge(req: Requirement, required: float, actual: float, bound: Bound | None
 
 # --- picking the candidate's value ---------------------------------------------------------
 
-def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, bool, str]:
-    """The candidate's value of ``req.param`` at the requirement's operating point.
+def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, Param | None, str]:
+    """The candidate's values of ``req.param`` at the requirement's operating point.
 
-    Returns (param, guaranteed, note). For VF at a forward current: a guaranteed maximum
-    at the same or a higher current bounds VF at the working current (VF rises with IF);
-    for a varicap's C at a reverse voltage: a value within 10 % of that voltage.
+    Returns (guaranteed, typical, note). For VF at a forward current: a value at the same
+    or a higher current bounds VF at the working current (VF rises with IF), the nearest
+    such current is used. For other parameters (a varicap's C at a reverse voltage): a
+    value within 10 % of that condition.
     """
     key, want = req.at[0]
     vals = part.values(req.param)
     if not vals:
-        return None, False, ""
-    untagged = [p for p in vals if key not in p.at]
+        return None, None, ""
+    gbound = Bound.MIN if req.op is Op.GE else Bound.MAX
     if req.param == "vf" and key == "if":
         usable = [p for p in vals if key in p.at and p.at[key] >= want * (1 - 1e-9)]
-        for bounds in ((Bound.MAX,), (Bound.TYP, Bound.NOM)):
-            cands = [p for p in usable if p.bound in bounds]
-            if cands:
-                best = min(cands, key=lambda p: p.at[key])
-                return best, bounds == (Bound.MAX,), ""
-        for bounds in ((Bound.MAX,), (Bound.TYP, Bound.NOM)):
-            cands = [p for p in untagged if p.bound in bounds]
-            if cands:
-                return cands[0], bounds == (Bound.MAX,), "(no test current given)"
-        return None, False, "VF is given only at lower currents than the working point"
+        note = ""
+        if not usable:
+            usable = [p for p in vals if key not in p.at]
+            note = "(no test current given)" if usable else \
+                "VF is given only at lower currents than the working point"
+        g = [p for p in usable if p.bound is gbound]
+        t = [p for p in usable if p.bound in (Bound.TYP, Bound.NOM)]
+        first = (lambda ps: min(ps, key=lambda q: q.at.get(key, 0.0))) if usable else None
+        return (first(g) if g and first else None, first(t) if t and first else None, note)
     near = [p for p in vals if key in p.at and abs(p.at[key] - want) <= 0.1 * abs(want)]
-    order = (Bound.MIN,) if req.op is Op.GE else (Bound.MAX,)
-    for bounds in (order, (Bound.TYP, Bound.NOM)):
-        cands = [p for p in near if p.bound in bounds]
-        if cands:
-            return cands[0], bounds == order, ""
-    return None, False, f"no {req.param} given at {at_text(req.at)[2:]}"
+    g = [p for p in near if p.bound is gbound]
+    t = [p for p in near if p.bound in (Bound.TYP, Bound.NOM)]
+    note = "" if near else f"no {req.param} given at {at_text(req.at)[2:]}"
+    return (g[0] if g else None, t[0] if t else None, note)
+
+
+def _typical(part: PartSpec, param: str) -> Param | None:
+    for p in part.values(param):
+        if p.bound is Bound.TYP:
+            return p
+    return None
 
 
 def _ambient_pd(part: PartSpec) -> Param | None:
@@ -427,27 +432,36 @@ def _check_temperature(part: PartSpec, req: Requirement) -> Check:
 
 
 def _check_numeric(part: PartSpec, req: Requirement) -> Check:
+    """A numeric bound: held against the guaranteed limit; a typical value only warns."""
     unit = _unit(req.param)
     value = float(req.value)
     note = ""
     if req.at:
-        p, guaranteed, note = _pick_at(part, req)
-        if p is None:
-            return _unknown(req, _render_req(req, unit, value, req.prefer),
-                            f"unknown: {note}" if note else "")
-        actual, bound, at = p.value, p.bound, p.at
+        g, t, note = _pick_at(part, req)
     else:
-        g = part.low(req.param) if req.op is Op.GE else part.high(req.param)
-        if g is None:
-            return _unknown(req, _render_req(req, unit, value, req.prefer))
-        actual, bound, guaranteed, at = g.value, g.bound, g.guaranteed, g.param.at
-        pdef = PARAMS.get(req.param)
-        if pdef is not None and pdef.sense != "char":
-            bound = None  # a rating or a nominal value: no min/typ/max to show
-    check = _judge(req, value, actual, bound, guaranteed, at, unit, prefer=req.prefer)
-    if note and check.verdict is Verdict.PASS:
-        return _replace_verdict(check, Verdict.WARN, f"{check.why} {note}")
-    return check
+        got = part.low(req.param) if req.op is Op.GE else part.high(req.param)
+        g = got.param if got is not None and got.guaranteed else None
+        t = got.param if got is not None and not got.guaranteed else \
+            (_typical(part, req.param) if got is not None else None)
+    if g is None and t is None:
+        return _unknown(req, _render_req(req, unit, value, req.prefer),
+                        f"unknown: {note}" if note else "")
+    pdef = PARAMS.get(req.param)
+    show_bound = pdef is None or pdef.sense == "char"
+    check: Check | None = None
+    if g is not None:
+        check = _judge(req, value, g.value, g.bound if show_bound else None, True, g.at, unit,
+                       prefer=req.prefer)
+        if check.verdict is not Verdict.FAIL or t is None:
+            if note and check.verdict is Verdict.PASS:
+                return _replace_verdict(check, Verdict.WARN, f"{check.why} {note}")
+            return check
+    assert t is not None
+    typ_check = _judge(req, value, t.value, t.bound if show_bound else None, False, t.at, unit,
+                       prefer=req.prefer)
+    if check is not None and typ_check.verdict is Verdict.FAIL:
+        return check  # the guaranteed limit fails and so does the typical value
+    return typ_check
 
 
 def _replace_verdict(c: Check, verdict: Verdict, why: str) -> Check:
@@ -473,6 +487,16 @@ def check_one(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> C
         return _check_tol(part, req)
     if param == "v_rated" and req.rule == "cap_v_fraction":
         return _check_cap_voltage(part, req, policy)
+    if param == "id" and part.family in ("n-jfet", "p-jfet") and part.get("id") is None \
+            and part.get("idss") is not None:
+        # a JFET's drain current with the gate at the source is IDSS: a stage biased for
+        # more than the guaranteed minimum IDSS may not reach its current
+        r = Requirement("idss", req.op, req.value, req.source,
+                        f"{req.why}; a JFET carries at most IDSS".lstrip("; "), req.rule,
+                        req.warn_only, req.prefer, req.at)
+        c = _check_numeric(part, r)
+        return Check("id", c.required, c.required_value, c.actual, "IDSS " + c.actual_text,
+                     c.bound, c.at, c.margin, c.verdict, c.why, c.source, c.rule)
     if param == "pd" and req.rule == "pd_fraction_max":
         return _check_pd(part, req, slot, policy)
     if param in ("tmax", "tmin"):

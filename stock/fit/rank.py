@@ -52,12 +52,23 @@ class Assessment:
 
     @property
     def deciding(self) -> Check | None:
-        """The check that decides the verdict: the worst failure, else the worst warning,
-        else the check with the smallest margin."""
-        for v in (Verdict.FAIL, Verdict.WARN):
-            hits = [c for c in self.checks if c.verdict is v]
-            if hits:
-                return min(hits, key=lambda c: math.inf if c.margin is None else c.margin)
+        """The check that decides the verdict: the worst failure (categorical ones first),
+        else the worst warning (a shortfall, then an unknown, then a thin margin), else the
+        check with the smallest margin."""
+        fails = [c for c in self.checks if c.verdict is Verdict.FAIL]
+        if fails:
+            # a categorical failure (polarity, safety class, dielectric) decides before a
+            # numeric shortfall; then the largest shortfall
+            return min(fails, key=lambda c: -math.inf if c.margin is None else c.margin)
+        warns = [c for c in self.checks if c.verdict is Verdict.WARN]
+        if warns:
+            # a known shortfall first, then an unknown value, then a thin or typical margin
+            def order(c: Check) -> tuple[int, float]:
+                if c.margin is None:
+                    return (1, 0.0)
+                return (0 if c.margin < 0 else 2, c.margin)
+
+            return min(warns, key=order)
         with_margin = [c for c in self.checks if c.margin is not None]
         return min(with_margin, key=lambda c: c.margin) if with_margin else None  # type: ignore
 

@@ -334,9 +334,9 @@ def _from_role(slot: Slot, policy: Policy) -> list[Requirement]:
                           f"{frac(hi)} of the rating", "r_p_fraction_max", prefer=p / pref))
         v = c.v_peak if c.v_peak is not None else c.v_dc if c.v_dc is not None else \
             c.v_rms * math.sqrt(2) if c.v_rms is not None else None
-        if v is not None:
+        if v is not None and v > policy["r_v_check_above"]:
             out.append(_r("v_limit", GE, v, f"the voltage across it {si(v, 'V')}",
-                          "v_margin_pref", prefer=v * vmp))
+                          "r_v_check_above", prefer=v * vmp))
 
     elif kind is Kind.INDUCTOR:
         ipk = c.i_peak if c.i_peak is not None else c.current
