@@ -17,6 +17,7 @@ from stock.catalog import (
     FROM_MEMORY,
     Catalog,
     Confidence,
+    format_rows,
     is_template,
     load_catalog,
     read_catalog_file,
@@ -423,3 +424,34 @@ def test_bad_header_and_unreadable_files(tmp_path):
         read_catalog_file(f)
     with pytest.raises(ImportFileError):
         load_catalog(tmp_path / "missing.csv")
+
+
+# --- writing rows back ------------------------------------------------------------------------
+def _same(a, b) -> bool:
+    def key(s):  # noqa: ANN001, ANN202
+        return (s.number, s.kind, s.family, s.package, s.pinout, s.description, s.source,
+                s.attrs, sorted((p.name, p.bound, p.value, tuple(sorted(p.at.items())),
+                                 p.origin) for p in s.params))
+    return key(a) == key(b)
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.lists(st.sampled_from([s.number for s in _shipped()]), min_size=1, max_size=12,
+                unique=True))
+def test_format_rows_reads_back_the_same_rows(tmp_path_factory, numbers):
+    cat = _shipped()
+    parts = [cat.get(n) for n in numbers]
+    f = tmp_path_factory.mktemp("rt") / "mine.csv"
+    f.write_text(format_rows(parts), encoding="utf-8")
+    back = read_catalog_file(f)
+    assert [s.number for s in back] == numbers
+    assert all(_same(a, b) for a, b in zip(parts, back, strict=True))
+
+
+# --- candidates to buy --------------------------------------------------------------------------
+def test_to_buy_lists_catalog_parts_not_in_the_drawers(cat):
+    recs = cat.to_buy(Kind.FET, "n-jfet", exclude=["j310", "MPF102"])
+    numbers = {r.part.number for r in recs}
+    assert "2N5457" in numbers and "J310" not in numbers and "MPF102" not in numbers
+    assert all(r.to_buy and r.free == 0 and r.part.family == "n-jfet" for r in recs)
+    assert all(not is_template(r.part) for r in cat.to_buy(Kind.CAPACITOR))

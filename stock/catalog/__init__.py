@@ -26,7 +26,7 @@ from typing import TYPE_CHECKING
 from stock.errors import ImportFileError, StockError, UnknownPart
 from stock.kinds import FAMILIES, PIN_LETTERS, Bound, Kind, normalise_family
 from stock.params import PARAMS
-from stock.parts import Origin, PartSpec, part_key
+from stock.parts import Origin, PartSpec, Stocked, part_key
 
 if TYPE_CHECKING:
     from stock.paramtext import Criterion
@@ -193,6 +193,18 @@ class Catalog:
             return (-score, _first(t, "v_rated", "v_ac", "p_rated"), _first(t, "tmax"))
 
         return min(kept, key=rank)
+
+    # --- candidates to buy -------------------------------------------------------------------
+    def to_buy(self, kind: Kind | None = None, family: str | None = None,
+               exclude: Iterable[str] = ()) -> list[Stocked]:
+        """Catalog parts of ``kind``/``family`` as candidates that would have to be bought.
+
+        Each is ``Stocked(part, free=0, to_buy=True)``; numbers in ``exclude`` (the ones in
+        the drawers) and templates are left out. The fit engine checks them like any other.
+        """
+        skip = {part_key(n) for n in exclude}
+        return [Stocked(s, free=0, to_buy=True) for s in self.search(kind, family)
+                if part_key(s.number) not in skip]
 
 
 # --- criteria ----------------------------------------------------------------------------
@@ -438,6 +450,25 @@ def _read_row(cells: dict[str, str], parse_params, file: str, rowno: int) -> Par
     )
 
 
+def format_rows(parts: Iterable[PartSpec]) -> str:
+    """``parts`` as catalog CSV text (header included), ready to edit into a user catalog."""
+    import io
+
+    from stock.paramtext import render_params
+
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow((*COLUMNS, *OPTIONAL_COLUMNS))
+    for s in parts:
+        extra = {k: v for k, v in s.attrs.items() if k not in ("confidence", "pin_variants")}
+        w.writerow((s.number, s.kind.value, s.family or "", s.package or "", s.pinout or "",
+                    s.attrs.get("pin_variants", ""), s.description, render_params(s.params),
+                    s.source or FROM_MEMORY,
+                    s.attrs.get("confidence", Confidence.FROM_MEMORY.value),
+                    "; ".join(f"{k}={v}" for k, v in extra.items())))
+    return buf.getvalue()
+
+
 # --- loading with a cache -----------------------------------------------------------------
 _shipped: list[PartSpec] | None = None
 _cache: dict[tuple[str, int, int] | None, Catalog] = {}
@@ -505,6 +536,7 @@ def clear_cache() -> None:
 
 
 __all__ = [
-    "COLUMNS", "Catalog", "Confidence", "FROM_MEMORY", "VALUE_PARAM", "clear_cache", "is_template",
-    "load_catalog", "read_catalog_file", "shipped_files", "user_catalog_path",
+    "COLUMNS", "Catalog", "Confidence", "FROM_MEMORY", "VALUE_PARAM", "clear_cache",
+    "format_rows", "is_template", "load_catalog", "read_catalog_file", "shipped_files",
+    "user_catalog_path",
 ]
