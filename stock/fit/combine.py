@@ -442,6 +442,11 @@ def _policy(policy: Mapping[str, float] | None) -> Mapping[str, float]:
         return _DEFAULTS
 
 
+def policy_value(policy: Mapping[str, float] | None, rid: str, default: float) -> float:
+    """Rule ``rid`` from ``policy`` (default: the shipped table), else ``default``."""
+    return float(_policy(policy).get(rid, default))
+
+
 def find_combinations(target: float, tol: tuple[float, float], kind: Kind,
                       stock: Sequence[Stocked], *, max_parts: int = 3, need: int = 1,
                       v_working: float | None = None, power: float | None = None,

@@ -19,20 +19,21 @@ Values are SI floats (F, Hz); offsets and pulls are fractions (1e-6 = 1 ppm).
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 
 from stock.errors import FitError
-from stock.fit.combine import fmt_si
+from stock.fit.combine import fmt_si, policy_value
 from stock.kinds import Bound, Kind
 from stock.parts import PartSpec, Stocked
 
-#: C0 assumed when a crystal's record has none: 7 pF is the usual HC-49/U specification
-#: limit (facts.md §5.2: Intel SA-1110 crystal spec, Yoketant glossary). A larger C0 pulls
-#: less, so the assumption errs on the side of "cannot reach".
+#: C0 assumed when a crystal's record has none (policy ``xtal_c0_assumed``): 7 pF is the
+#: usual HC-49/U specification limit (facts.md §5.2: Intel SA-1110 crystal spec, Yoketant
+#: glossary). A larger C0 pulls less, so the assumption errs on the side of "cannot reach".
 C0_ASSUMED = 7e-12
 
-#: The overtone order assumed for a crystal of family "overtone" with no order on record:
+#: The overtone order assumed for a crystal of family "overtone" with no order on record
+#: (policy ``xtal_overtone_assumed``):
 #: the third overtone is the usual one [common practice].
 OVERTONE_ASSUMED = 3
 
@@ -130,7 +131,8 @@ def _value(part: PartSpec, name: str) -> tuple[float | None, Bound | None]:
 
 
 def reachable(crystal: PartSpec, f_wanted: float, cl_range: tuple[float, float], *,
-              overtone: int | None = None) -> Pulling:
+              overtone: int | None = None, policy: Mapping[str, float] | None = None
+              ) -> Pulling:
     """Can ``crystal`` be pulled onto ``f_wanted`` (Hz) by a load within ``cl_range`` (F)?
 
     The record gives ``f`` at its specified load ``cl`` (0 or absent: series resonance),
@@ -157,8 +159,8 @@ def reachable(crystal: PartSpec, f_wanted: float, cl_range: tuple[float, float],
         notes.append("c1 is a typical value, not guaranteed")
     c0, c0_bound = _value(crystal, "c0")
     if c0 is None:
-        c0 = C0_ASSUMED
-        notes.append(f"no c0 on record: assumed {fmt_si(C0_ASSUMED, 'F')} (usual HC-49/U limit)")
+        c0 = policy_value(policy, "xtal_c0_assumed", C0_ASSUMED)
+        notes.append(f"no c0 on record: assumed {fmt_si(c0, 'F')} (usual HC-49/U limit)")
     elif c0_bound is Bound.TYP:
         notes.append("c0 is a typical value")
     n = overtone
@@ -167,7 +169,7 @@ def reachable(crystal: PartSpec, f_wanted: float, cl_range: tuple[float, float],
         if rec is not None:
             n = int(round(rec))
         elif crystal.family == "overtone":
-            n = OVERTONE_ASSUMED
+            n = int(policy_value(policy, "xtal_overtone_assumed", OVERTONE_ASSUMED))
             notes.append(f"overtone order not on record: assumed {n}")
         else:
             n = 1
@@ -212,7 +214,8 @@ def reachable(crystal: PartSpec, f_wanted: float, cl_range: tuple[float, float],
 
 
 def find_pullable(f_wanted: float, cl_range: tuple[float, float], stock: Sequence[Stocked], *,
-                  need: int = 1) -> list[tuple[Stocked, Pulling]]:
+                  need: int = 1, policy: Mapping[str, float] | None = None
+                  ) -> list[tuple[Stocked, Pulling]]:
     """Crystals in free stock that can be pulled onto ``f_wanted`` within ``cl_range``.
 
     Ranked by how close the needed load is to the middle of the range (the most trim left
@@ -225,7 +228,7 @@ def find_pullable(f_wanted: float, cl_range: tuple[float, float], stock: Sequenc
             continue
         if s.part.nominal("f") is None:
             continue
-        p = reachable(s.part, f_wanted, cl_range)
+        p = reachable(s.part, f_wanted, cl_range, policy=policy)
         if p.known and p.reachable:
             out.append((s, p))
     out.sort(key=lambda sp: (abs((sp[1].cl_needed or 0.0) - mid), -sp[0].free))

@@ -19,7 +19,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 from stock.errors import FitError
-from stock.fit.combine import fmt_si
+from stock.fit.combine import fmt_si, policy_value
 from stock.kinds import Bound, Kind
 from stock.parts import PartSpec
 from stock.slots import Slot
@@ -29,8 +29,8 @@ _TWO_PI = 2.0 * math.pi
 #: Capacitor families that are adjustable: the tank's trimmer.
 TRIMMER_FAMILIES = frozenset({"trimmer", "variable"})
 
-#: Without a trimmer, how close (as a fraction) counts as "on frequency" [common practice;
-#: the policy table carries it as ``tank_f_tol``].
+#: Without a trimmer, how close (as a fraction) counts as "on frequency" [common practice];
+#: the policy table carries it as ``tank_f_tol``, this is the fallback.
 F_TOL_DEFAULT = 0.005
 
 
@@ -83,12 +83,13 @@ class Retune:
 
 def retune(*, l: float, c_fixed: float, f_target: float,  # noqa: E741
            trimmer: tuple[float, float] | None = None, c_stray: float = 0.0,
-           f_tol: float = F_TOL_DEFAULT) -> Retune:
+           f_tol: float | None = None) -> Retune:
     """Can the tank (``l``, ``c_fixed`` + ``c_stray`` + trimmer) be tuned to ``f_target``?
 
     ``trimmer`` is the trimmer's (min, max) capacitance in farads. With a trimmer the
     answer is whether ``C_needed − c_fixed − c_stray`` lies in its range; without one,
-    whether the fixed tank already lands within ``f_tol`` (a fraction) of ``f_target``.
+    whether the fixed tank already lands within ``f_tol`` (a fraction; default: policy rule
+    ``tank_f_tol``) of ``f_target``.
     """
     _positive("L", l)
     _positive("f_target", f_target)
@@ -132,6 +133,8 @@ def retune(*, l: float, c_fixed: float, f_target: float,  # noqa: E741
         raise FitError("the tank has no capacitance; give its fixed or stray capacitance")
     f_new = resonant_frequency(l, c_total)
     off = (f_new - f_target) / f_target
+    if f_tol is None:
+        f_tol = policy_value(None, "tank_f_tol", F_TOL_DEFAULT)
     can = abs(off) <= f_tol
     text = (f"{where}: resonates at {fmt_si(f_new, 'Hz')} ({off * 100:+.2f} % from "
             f"{fmt_si(f_target, 'Hz')}); no trimmer, and the tank needs "
@@ -160,7 +163,7 @@ def _changed(slot: Slot, changed: Mapping[str, float | tuple[float, float]]
 
 
 def retune_group(slots: Sequence[Slot], changed: Mapping[str, float | tuple[float, float]],
-                 f_target: float, *, c_stray: float = 0.0, f_tol: float = F_TOL_DEFAULT
+                 f_target: float, *, c_stray: float = 0.0, f_tol: float | None = None
                  ) -> Retune:
     """Retune one tie group of slots: an inductor, fixed capacitors in parallel, a trimmer.
 
