@@ -181,3 +181,23 @@ def test_check_against_a_real_store(tmp_path):
         assert rep.summaries[0].buildable == 0  # no resistors or capacitors in the store
     finally:
         st.close()
+
+
+def test_demo_kits_call_for_parts_that_meet_their_own_slots():
+    # Each Saltmarsh demo slot's called-for part (kit value or reference catalog) must not
+    # fail the slot it is written for: the demo kits are consistent with the fit rules.
+    from dataclasses import replace
+    from pathlib import Path
+
+    from stock.fit.engine import assess
+
+    cat = _catalog()
+    for path in sorted((Path(__file__).parent.parent / "seeds_demo" / "kits").glob("*.toml")):
+        kit = load_kit(path)
+        for slot in kit.slots:
+            part = slot.part or cat.get(slot.calls_for)
+            assert part is not None, (kit.name, slot.calls_for)
+            (a,) = assess(replace(slot, part=part), [Stocked(part, 9, [("X", 9)])], POLICY,
+                          include_failing=True)
+            assert a.fitness.value != "fails", (kit.name, slot.label,
+                                                [c.why for c in a.failures])
