@@ -149,11 +149,16 @@ def parse_param(text: str, kind: Kind | None = None) -> list[Param]:
         lo_text, _, hi_text = val.partition("..")
         if not lo_text.strip() or not hi_text.strip() or ".." in hi_text:
             raise _err(text, "a range needs two values, as 100..300")
+        lo_text, hi_text = lo_text.strip(), hi_text.strip()
+        bare = re.fullmatch(r"[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?", lo_text)
+        suffix = re.fullmatch(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?(\s*[^\d\s.][^\d]*)",
+                              hi_text)
+        if bare and suffix:
+            lo_text += suffix[1]  # 440..540pF: the low end shares the high end's pF
         if is_tol:
             lo, hi = _fraction(lo_text, text), _fraction(hi_text, text)
         else:
-            lo, hi = _value(lo_text.strip(), pdef.unit, text), _value(hi_text.strip(),
-                                                                       pdef.unit, text)
+            lo, hi = _value(lo_text, pdef.unit, text), _value(hi_text, pdef.unit, text)
         return [one(Bound.MIN, lo), one(Bound.MAX, hi)]
     if is_tol and op == "=" and explicit is None:
         try:

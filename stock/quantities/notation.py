@@ -181,7 +181,8 @@ def _finite(v: Value, mantissa: str, unit: str | None) -> Value:
 def _codes(t: str, unit: str | None, kind: Kind | None, code: bool) -> Value | None:
     """Marking codes, only where the caller says the text may be one."""
     if (kind is Kind.CAPACITOR or code) and unit in (None, "F"):
-        m = re.fullmatch(r"\d{1,3}\s*([A-Z])?", t)
+        # 473J (no space) is a marking; "1 F" with a space is a value in farads.
+        m = re.fullmatch(r"\d{1,3}([A-Z])?", t)
         if m and m[1] not in ("N", "P"):  # 100N, 10P: RKM (nF, pF), see docs
             return cap_code_or_none(t)
     if (kind is Kind.RESISTOR or code) and unit in (None, OHM):
@@ -256,8 +257,10 @@ def _sig(v: float, digits: int) -> tuple[str, int]:
     first = int(e) + len(ds) - 1
     s = s.rstrip("0") or "0"
     if len(s) > max(EXACT_DIGITS, digits):
-        mant, ex = f"{v:.{max(digits, 1) - 1}e}".split("e")
-        s, first = mant.replace(".", "").rstrip("0") or "0", int(ex)
+        rounded = f"{v:.{max(digits, 1) - 1}e}"
+        if math.isfinite(float(rounded)):  # near the float limit rounding up would overflow
+            mant, ex = rounded.split("e")
+            s, first = mant.replace(".", "").rstrip("0") or "0", int(ex)
     return s, first
 
 
