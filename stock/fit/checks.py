@@ -10,8 +10,8 @@ parameter the record lacks is "unknown" — a warning, never a silent pass.
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass
 from enum import StrEnum
+from typing import Any
 
 from stock.fit.text import at_text, frac, si
 from stock.kinds import CAPACITOR_CLASS, POLARISED_FAMILIES, Bound, Kind
@@ -29,22 +29,80 @@ class Verdict(StrEnum):
     FAIL = "fail"
 
 
-@dataclass(frozen=True, slots=True)
 class Check:
-    """One requirement against one candidate."""
+    """One requirement against one candidate.
 
-    param: str
-    required: str  # rendered, e.g. ">= 50 V"
-    required_value: float | str | None
-    actual: float | str | None
-    actual_text: str
-    bound: Bound | None  # which datasheet bound ``actual`` is (min/typ/max/nom)
-    at: Mapping[str, float]  # test conditions of ``actual``
-    margin: float | None  # fraction; positive = headroom, negative = short by
-    verdict: Verdict
-    why: str
-    source: Source
-    rule: str | None
+    Fields: ``param``, ``required`` (rendered, e.g. ">= 50 V"), ``required_value``,
+    ``actual``, ``actual_text``, ``bound`` (which datasheet bound ``actual`` is),
+    ``at`` (its test conditions), ``margin`` (a fraction; positive = headroom, negative =
+    short by), ``verdict``, ``why``, ``source``, ``rule``. Read-only.
+
+    The three text fields of the common numeric checks are rendered on first use: ranking
+    thousands of candidates needs only verdicts and margins.
+    """
+
+    __slots__ = ("param", "_required", "required_value", "actual", "_actual_text", "bound",
+                 "at", "margin", "verdict", "_why", "source", "rule", "_lazy", "op")
+
+    _FIELDS = ("param", "required", "required_value", "actual", "actual_text", "bound", "at",
+               "margin", "verdict", "why", "source", "rule")
+
+    def __init__(self, param: str, required: str | None, required_value: float | str | None,
+                 actual: float | str | None, actual_text: str | None, bound: Bound | None,
+                 at: Mapping[str, float], margin: float | None, verdict: Verdict,
+                 why: str | None, source: Source, rule: str | None,
+                 lazy: tuple | None = None) -> None:
+        # plain assignments: thousands of checks are built per query (read-only by
+        # convention; the text fields are properties)
+        self.param = param
+        self._required = required
+        self.required_value = required_value
+        self.actual = actual
+        self._actual_text = actual_text
+        self.bound = bound
+        self.at = at
+        self.margin = margin
+        self.verdict = verdict
+        self._why = why
+        self.source = source
+        self.rule = rule
+        self._lazy = lazy
+        self.op: Op | None = lazy[0].op if lazy is not None else None
+
+    def _render(self) -> None:
+        self._required, self._actual_text, self._why = _render_judged(*self._lazy)  # type: ignore
+        self._lazy = None
+
+    @property
+    def required(self) -> str:
+        if self._lazy is not None:
+            self._render()
+        return self._required  # type: ignore[return-value]
+
+    @property
+    def actual_text(self) -> str:
+        if self._lazy is not None:
+            self._render()
+        return self._actual_text  # type: ignore[return-value]
+
+    @property
+    def why(self) -> str:
+        if self._lazy is not None:
+            self._render()
+        return self._why  # type: ignore[return-value]
+
+    def _tuple(self) -> tuple:
+        return tuple(getattr(self, f) for f in self._FIELDS)
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Check):
+            return NotImplemented
+        return self._tuple() == other._tuple()
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return "Check(" + ", ".join(f"{f}={getattr(self, f)!r}" for f in self._FIELDS) + ")"
 
 
 _NO_AT: Mapping[str, float] = {}
@@ -134,34 +192,58 @@ def _unknown(req: Requirement, required: str, what: str = "") -> Check:
 
 def _judge(req: Requirement, required: float, actual: float, bound: Bound | None,
            guaranteed: bool, at: Mapping[str, float], unit: str, *,
-           prefer: float | None = None, actual_text: str | None = None,
-           rendered: str | None = None) -> Check:
-    """Compare and build the check (the common path of every numeric requirement)."""
+           prefer: float | None = None, actual_text: Any = None,
+           rendered: Any = None) -> Check:
+    """Compare and build the check (the common path of every numeric requirement).
+
+    Only the verdict and margin are computed here; the text is rendered on first use.
+    """
     op = req.op
+    margin = _margin(op, required, actual, unit)
+    if not _met(op, required, actual):
+        outcome = 0
+        verdict = Verdict.WARN if req.warn_only else Verdict.FAIL
+    elif not guaranteed:
+        outcome = 1
+        verdict = Verdict.WARN
+    elif prefer is not None and not _met(op, prefer, actual):
+        outcome = 2
+        verdict = Verdict.WARN
+    else:
+        outcome = 3
+        verdict = Verdict.PASS
+    return Check(req.param, None, required, actual, None, bound, at, margin, verdict, None,
+                 req.source, req.rule, (req, required, actual, bound, at, unit, prefer,
+                                        actual_text, rendered, outcome))
+
+
+def _render_judged(req: Requirement, required: float, actual: float, bound: Bound | None,
+                   at: Mapping[str, float], unit: str, prefer: float | None,
+                   actual_text: Any, rendered: Any, outcome: int
+                   ) -> tuple[str, str, str]:
+    """The texts of a check built by :func:`_judge`: (required, actual_text, why)."""
+    # deferred texts come as (function, args) pairs
+    if isinstance(rendered, tuple):
+        rendered = rendered[0](*rendered[1])
+    if isinstance(actual_text, tuple):
+        actual_text = actual_text[0](*actual_text[1])
     rtext = rendered or _render_req(req, unit, required, prefer)
     atext = actual_text or _fmt(req.param, actual, unit)
     if bound is not None and bound is not Bound.NOM and actual_text is None:
         atext += f" {bound.value}"
         if at:
             atext += " " + at_text(at)
-    margin = _margin(op, required, actual, unit)
-    label = _label(req.param)
-    if not _met(op, required, actual):
-        word = "below" if op is Op.GE else "above"
-        why = f"{label} {atext} is {word} {rtext.split(' (prefer')[0]}; {req.why}".rstrip("; ")
-        verdict = Verdict.WARN if req.warn_only else Verdict.FAIL
-    elif not guaranteed:
+    if outcome == 0:
+        word = "below" if req.op is Op.GE else "above"
+        why = f"{_label(req.param)} {atext} is {word} {rtext.split(' (prefer')[0]}; {req.why}"
+    elif outcome == 1:
         why = f"met only by a typical value ({atext}); nothing guarantees it"
-        verdict = Verdict.WARN
-    elif prefer is not None and not _met(op, prefer, actual):
+    elif outcome == 2:
         why = (f"meets {_fmt(req.param, required, unit)} but not the preferred "
-               f"{_fmt(req.param, prefer, unit)}; {req.why}").rstrip("; ")
-        verdict = Verdict.WARN
+               f"{_fmt(req.param, prefer, unit)}; {req.why}")  # type: ignore[arg-type]
     else:
         why = req.why or "meets the requirement"
-        verdict = Verdict.PASS
-    return Check(req.param, rtext, required, actual, atext, bound, at, margin, verdict, why,
-                 req.source, req.rule)
+    return rtext, atext, why.rstrip("; ")
 
 
 # --- picking the candidate's value ---------------------------------------------------------
@@ -197,13 +279,6 @@ def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, Param | No
     return (g[0] if g else None, t[0] if t else None, note)
 
 
-def _typical(part: PartSpec, param: str) -> Param | None:
-    for p in part.values(param):
-        if p.bound is Bound.TYP:
-            return p
-    return None
-
-
 def _ambient_pd(part: PartSpec) -> Param | None:
     """The free-air PD rating (not the one stated at a case temperature)."""
     vals = part.values("pd")
@@ -219,23 +294,47 @@ def pd_at(part: PartSpec, ta: float) -> tuple[float | None, str]:
     RθJA is taken from the record, else derived from PD(25 °C) and Tj,max the way
     datasheets state the derating line. Returns (watts or None, how it was found).
     """
-    p25 = _ambient_pd(part)
-    tj = part.get("tj")
-    rth = part.high("rth_ja")
-    pd25 = p25.value if p25 else None
-    t25 = p25.at.get("ta", 25.0) if p25 else 25.0
-    r = rth.value if rth else None
-    if r is None and pd25 and tj is not None and tj.value > t25:
-        r = (tj.value - t25) / pd25
+    watts, tj, r, t25 = _pd_numbers(part, ta)
+    if watts is None:
+        return None, ""
+    return watts, _pd_text(watts, ta, tj, r, t25)
+
+
+def _pd_numbers(part: PartSpec, ta: float
+                ) -> tuple[float | None, float | None, float | None, float]:
+    """(PD(TA), Tj,max, RθJA, the TA of the PD rating) in one pass over the record."""
+    pd25: float | None = None
+    t25 = 25.0
+    tj: float | None = None
+    r: float | None = None
+    for p in part.params:
+        name = p.name
+        if name == "pd":
+            if pd25 is None and "tc" not in p.at:  # the free-air rating, not the case one
+                pd25 = p.value
+                t25 = p.at.get("ta", 25.0)
+        elif name == "tj":
+            if tj is None:
+                tj = p.value
+        elif name == "rth_ja" and p.bound is not Bound.MIN:
+            if r is None or p.value > r:
+                r = p.value
+    if r is None and pd25 and tj is not None and tj > t25:
+        r = (tj - t25) / pd25
     if tj is None or r is None:
         if pd25 is not None and ta <= t25:
-            return pd25, f"{si(pd25, 'W')} at {t25:g} °C"
-        return None, ""
-    derated = (tj.value - ta) / r
-    if pd25 is not None:
-        derated = min(derated, pd25)
-    how = f"{si(max(derated, 0.0), 'W')} at {ta:g} °C (Tj {tj.value:g} °C, RθJA {r:.3g} °C/W)"
-    return max(derated, 0.0), how
+            return pd25, None, None, t25
+        return None, tj, r, t25
+    derated = (tj - ta) / r
+    if pd25 is not None and pd25 < derated:
+        derated = pd25
+    return max(derated, 0.0), tj, r, t25
+
+
+def _pd_text(watts: float, ta: float, tj: float | None, r: float | None, t25: float) -> str:
+    if tj is None or r is None:
+        return f"{si(watts, 'W')} at {t25:g} °C"
+    return f"{si(watts, 'W')} at {ta:g} °C (Tj {tj:g} °C, RθJA {r:.3g} °C/W)"
 
 
 # --- the special parameters ----------------------------------------------------------------
@@ -361,13 +460,18 @@ def _check_pd(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> C
         ta = policy["ambient_default"]
     required = dissipation / policy["pd_fraction_max"]
     prefer = dissipation / policy["pd_fraction_pref"]
-    rtext = f"PD({ta:g} °C) >= {si(required, 'W')} (prefer >= {si(prefer, 'W')})"
-    actual, how = pd_at(part, ta)
+    actual, tj, r, t25 = _pd_numbers(part, ta)
     if actual is None:
-        return _unknown(req, rtext, "unknown: the record lacks PD, Tj or RθJA to derate at "
+        return _unknown(req, _pd_required(ta, required, prefer),
+                        "unknown: the record lacks PD, Tj or RθJA to derate at "
                         f"{ta:g} °C; check the datasheet")
     return _judge(req, required, actual, None, True, {"ta": ta}, "W", prefer=prefer,
-                  actual_text=how, rendered=rtext)
+                  actual_text=(_pd_text, (actual, ta, tj, r, t25)),  # rendered on use
+                  rendered=(_pd_required, (ta, required, prefer)))
+
+
+def _pd_required(ta: float, required: float, prefer: float) -> str:
+    return f"PD({ta:g} °C) >= {si(required, 'W')} (prefer >= {si(prefer, 'W')})"
 
 
 def _check_crystal_f(part: PartSpec, req: Requirement, policy: Policy) -> Check:
@@ -431,6 +535,42 @@ def _check_temperature(part: PartSpec, req: Requirement) -> Check:
                   actual_text=f"{value:g} °C (from the {part.family.upper()} code, EIA-198)")
 
 
+_SENSE = {name: pdef.sense for name, pdef in PARAMS.items()}
+
+
+def _select(part: PartSpec, name: str, op: Op) -> tuple[Param | None, Param | None]:
+    """(guaranteed value, typical value) of ``name`` to hold an ``op`` bound against.
+
+    The same choice as :meth:`PartSpec.low`/:meth:`PartSpec.high` in one pass: a rating or
+    nominal value is its own guarantee; for a characteristic the worst ``min`` (for >=) or
+    ``max`` (for <=), else a ``nom`` value; ``typ`` only ever as the typical fallback.
+    """
+    first: Param | None = None
+    best: Param | None = None
+    nom: Param | None = None
+    typ: Param | None = None
+    want = Bound.MIN if op is Op.GE else Bound.MAX
+    for p in part.params:
+        if p.name != name:
+            continue
+        if first is None:
+            first = p
+        b = p.bound
+        if b is want:
+            if best is None or (p.value < best.value if op is Op.GE else p.value > best.value):
+                best = p
+        elif b is Bound.TYP:
+            if typ is None:
+                typ = p
+        elif b is Bound.NOM and nom is None:
+            nom = p
+    if first is None:
+        return None, None
+    if _SENSE.get(name) != "char":
+        return (first, None) if first.bound is not Bound.TYP else (None, first)
+    return (best or nom), typ
+
+
 def _check_numeric(part: PartSpec, req: Requirement) -> Check:
     """A numeric bound: held against the guaranteed limit; a typical value only warns."""
     unit = _unit(req.param)
@@ -439,15 +579,11 @@ def _check_numeric(part: PartSpec, req: Requirement) -> Check:
     if req.at:
         g, t, note = _pick_at(part, req)
     else:
-        got = part.low(req.param) if req.op is Op.GE else part.high(req.param)
-        g = got.param if got is not None and got.guaranteed else None
-        t = got.param if got is not None and not got.guaranteed else \
-            (_typical(part, req.param) if got is not None else None)
+        g, t = _select(part, req.param, req.op)
     if g is None and t is None:
         return _unknown(req, _render_req(req, unit, value, req.prefer),
                         f"unknown: {note}" if note else "")
-    pdef = PARAMS.get(req.param)
-    show_bound = pdef is None or pdef.sense == "char"
+    show_bound = _SENSE.get(req.param, "char") == "char"
     check: Check | None = None
     if g is not None:
         check = _judge(req, value, g.value, g.bound if show_bound else None, True, g.at, unit,

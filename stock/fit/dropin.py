@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from enum import StrEnum
+from functools import lru_cache
 
 from stock.kinds import Kind
 from stock.parts import PartSpec
@@ -35,10 +36,13 @@ class DropIn:
     mapping: list[tuple[int, int]] | None = None  # (candidate pin, board pad), 1-based
 
 
+@lru_cache(maxsize=512)
+def _pkg_key(p: str) -> str:
+    return p.upper().replace(" ", "").replace("-", "").replace("_", "").replace("/", "")
+
+
 def _pkg(p: str | None) -> str | None:
-    if not p:
-        return None
-    return p.upper().replace(" ", "").replace("-", "").replace("_", "")
+    return _pkg_key(p) if p else None
 
 
 def pin_mapping(board: str, candidate: str) -> list[tuple[int, int]] | None:

@@ -11,9 +11,9 @@ from collections.abc import Callable, Iterable, Mapping, Sequence
 from typing import Any
 
 from stock.errors import NotationError, UnknownPart
-from stock.fit.checks import check_part
+from stock.fit.checks import Verdict, check_one, check_part
 from stock.fit.dropin import dropin
-from stock.fit.rank import Assessment, Fitness, fitness_of, rank, versatility
+from stock.fit.rank import Assessment, fitness_of, rank, versatility
 from stock.fit.requirements import requirements_for
 from stock.kinds import FAMILIES, Bound, Kind, normalise_family, parse_kind
 from stock.parts import Origin, Param, PartSpec, Stocked
@@ -48,10 +48,21 @@ def assess(slot: Slot, candidates: Iterable[Stocked], policy: Policy, *, need: i
         part = s.part
         if part.kind is not slot.kind:
             continue
-        checks = check_part(part, slot, reqs, policy)
+        if include_failing:
+            checks = check_part(part, slot, reqs, policy)
+        else:
+            # stop at the first failure: most of a large pool fails something early
+            checks = []
+            for req in reqs:
+                c = check_one(part, req, slot, policy)
+                if c.verdict is Verdict.FAIL:
+                    break
+                checks.append(c)
+            else:
+                c = None
+            if c is not None:
+                continue
         fit, warnings, smallest = fitness_of(checks)
-        if fit is Fitness.FAILS and not include_failing:
-            continue
         out.append(Assessment(s, checks, fit, dropin(called, part), smallest, warnings,
                               versatility=versatility(checks)))
     return rank(out, need=need, ample=policy["rank_margin_ample"], demand=demand)

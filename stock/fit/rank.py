@@ -98,7 +98,7 @@ def versatility(checks: list[Check]) -> float:
     """Sum of log10(actual/required) over scarce ``>=`` checks: how over-qualified a part is."""
     total = 0.0
     for c in checks:
-        if c.param in SCARCE and c.required.startswith(Op.GE.value) and \
+        if c.param in SCARCE and c.op is Op.GE and \
                 isinstance(c.actual, float | int) and isinstance(c.required_value, float | int) \
                 and c.required_value > 0 and c.actual > c.required_value:
             total += math.log10(c.actual / c.required_value)
