@@ -378,16 +378,16 @@ def solve(demands: Sequence[Demand], supplies: Sequence[Supply], links: Sequence
             from_drawer[s.part].append((s, f))
     allocs: list[Allocation] = []
     for part, uses in per_part.items():
-        pool = [[s, f] for s, f in from_drawer[part]]
+        drawers = [s.drawer for s, _ in from_drawer[part]]
+        left = [f for _, f in from_drawer[part]]
         i = 0
         for lk, f in sorted(uses, key=lambda u: rank[u[0].demand]):
             while f:
-                s, left = pool[i]
-                take = min(f, left)
-                allocs.append(Allocation(lk.demand, part, s.drawer, take, lk.exact))
+                take = min(f, left[i])
+                allocs.append(Allocation(lk.demand, part, drawers[i], take, lk.exact))
                 f -= take
-                pool[i][1] = left - take
-                if pool[i][1] == 0:
+                left[i] -= take
+                if left[i] == 0:
                     i += 1
     short = {key: mcf.flow(arc) for arc, key in short_arcs.items() if mcf.flow(arc)}
     allocs = _sorted(allocs, active, links, supplies)

@@ -256,8 +256,8 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     supplies = [Supply(p, d, f) for (p, d), f in places.items()]
     plan = solve(demands, supplies, add_scarcity(demands, supplies, links))
     by_key = {sc.key: sc for sc in checks}
-    for a in plan.allocations:
-        by_key[a.demand].allocations.append(a)
+    for alloc in plan.allocations:
+        by_key[alloc.demand].allocations.append(alloc)
     for key, n in plan.short.items():
         by_key[key].short = n
     if combinations:

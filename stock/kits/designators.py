@@ -119,8 +119,7 @@ def compress(refs: Sequence[str]) -> str:
 
     for ref in items:
         m = _REF.match(ref)
-        plain = bool(m) and not m.group(3) and str(int(m.group(2))) == m.group(2)
-        if not plain:
+        if m is None or m.group(3) or str(int(m.group(2))) != m.group(2):
             flush()
             parts.append(ref)
             continue

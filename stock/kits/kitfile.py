@@ -292,8 +292,8 @@ def parse_kit(text: str, file: str = "<kit>") -> Kit:
         if line is None and "(at line " in msg:
             line = int(msg.split("(at line ")[1].split(",")[0].rstrip(")"))
         msg = msg.split(" (at line")[0]
-        at = f"{file}:{line}" if line else file
-        raise KitFileError(f"{at}: {msg}; fix the TOML syntax there") from None
+        place = f"{file}:{line}" if line else file
+        raise KitFileError(f"{place}: {msg}; fix the TOML syntax there") from None
     at = _Where(file, line_index(text))
     problems = validate(doc)
     if problems:
