@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import csv
 import re
-from collections.abc import Iterable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field, replace
 from enum import StrEnum
 from pathlib import Path
@@ -26,7 +26,7 @@ from typing import TYPE_CHECKING
 from stock.errors import ImportFileError, StockError, UnknownPart
 from stock.kinds import FAMILIES, PIN_LETTERS, Bound, Kind, normalise_family
 from stock.params import PARAMS
-from stock.parts import Origin, PartSpec, Stocked, part_key
+from stock.parts import Origin, Param, PartSpec, Stocked, part_key
 
 if TYPE_CHECKING:
     from stock.paramtext import Criterion
@@ -325,7 +325,24 @@ def read_catalog_file(path: Path) -> list[PartSpec]:
 
     Row numbers count the header as row 1, as a spreadsheet shows them.
     """
-    from stock.paramtext import parse_params
+    from stock.paramtext import parse_param
+
+    # Many rows share expressions (tj=150°C, pd=625mW@ta=25°C): read each text once per file.
+    memo: dict[tuple[str, Kind], list[Param]] = {}
+
+    def read_params(text: str, kind: Kind) -> list[Param]:
+        out: list[Param] = []
+        for piece in text.split(";"):
+            piece = piece.strip()
+            if not piece:
+                continue
+            got = memo.get((piece, kind))
+            if got is None:
+                got = [Param(p.name, p.bound, p.value, p.at, Origin.CATALOG)
+                       for p in parse_param(piece, kind)]
+                memo[(piece, kind)] = got
+            out.extend(got)
+        return out
 
     name = str(path)
     try:
@@ -357,7 +374,7 @@ def read_catalog_file(path: Path) -> list[PartSpec]:
                     raise ImportFileError(f"{len(rec)} cells where the header has {len(header)}; "
                                           "quote cells that contain commas", file=name, row=rowno)
                 cells = dict(zip(header, (c.strip() for c in rec), strict=False))
-                spec = _read_row(cells, parse_params, name, rowno)
+                spec = _read_row(cells, read_params, name, rowno)
                 key = part_key(spec.number)
                 if key in seen:
                     raise ImportFileError(f"{spec.number} is listed twice (also row {seen[key]}); "
@@ -373,7 +390,8 @@ def read_catalog_file(path: Path) -> list[PartSpec]:
     return parts
 
 
-def _read_row(cells: dict[str, str], parse_params, file: str, rowno: int) -> PartSpec:  # noqa: ANN001
+def _read_row(cells: dict[str, str], read_params: Callable[[str, Kind], list[Param]],
+              file: str, rowno: int) -> PartSpec:
     def bad(column: str, message: str) -> ImportFileError:
         return ImportFileError(message, file=file, row=rowno, column=column)
 
@@ -418,7 +436,7 @@ def _read_row(cells: dict[str, str], parse_params, file: str, rowno: int) -> Par
     if not text:
         raise bad("params", "no parameters; write them like vceo=40V; ic=600mA")
     try:
-        params = parse_params(text, kind)
+        params = read_params(text, kind)
     except (StockError, ValueError) as exc:
         raise bad("params", str(exc)) from None
     lows: dict[tuple[str, tuple[tuple[str, float], ...]], float] = {}
@@ -444,8 +462,7 @@ def _read_row(cells: dict[str, str], parse_params, file: str, rowno: int) -> Par
     return PartSpec(
         number=number, kind=kind, family=family, package=cells.get("package") or None,
         pinout=pinout or None, description=cells.get("description", ""), attrs=attrs,
-        params=[replace(p, origin=Origin.CATALOG) if p.origin != Origin.CATALOG else p
-                for p in params],
+        params=params,
         source=source,
     )
 
