@@ -480,7 +480,10 @@ def find_combinations(target: float, tol: tuple[float, float], kind: Kind,
     if stacking is None:
         stacking = Stacking.RSS if pol.get("combo_stacking_rss", 0.0) else Stacking.WORST_CASE
     stacking = Stacking(stacking)
-    fam = normalise_family(kind, family) if family is not None else None
+    try:
+        fam = normalise_family(kind, family)
+    except ValueError:  # a family spelled outside our list still filters by its own name
+        fam = family.strip().lower() if family else None
     unknown = float(pol.get("combo_tol_unknown", _DEFAULTS["combo_tol_unknown"]))
     cands = _candidates(kind, stock, need, fam, unknown)
     if max_parts < 2 or not cands:
