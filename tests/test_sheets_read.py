@@ -14,6 +14,8 @@ import zipfile
 from pathlib import Path
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from stock.errors import ImportFileError
 from stock.sheets import DEFAULT_LIMITS, Limits, iter_rows, read_table
@@ -560,3 +562,70 @@ def test_sheet_by_name_and_unknown_sheet(tmp_path: Path) -> None:
         _read(path, sheet="drawer")
     with pytest.raises(ImportFileError, match="no header row"):
         _read(path)  # the first sheet is the cover
+
+
+# --- the fast path of large CSV files agrees with the row-by-row reading -------------------------
+
+
+@pytest.mark.parametrize(("comma_row", "point_row"), [(10, 9000), (9000, 12000), (12000, 9000)])
+def test_mixed_decimals_far_apart(tmp_path: Path, comma_row: int, point_row: int) -> None:
+    # Rows beyond the first few are checked a block at a time; the error must still name both.
+    lines = ["part;price"] + [f"P{n};{n % 50}" for n in range(2, 15001)]
+    lines[comma_row - 1] = f"P{comma_row};0,5"
+    lines[point_row - 1] = f"P{point_row};0.5"
+    path = _csv(tmp_path, ("\r\n".join(lines) + "\r\n").encode())
+    with pytest.raises(ImportFileError) as err:
+        _read(path, numeric_columns=["price"])
+    message = str(err.value)
+    assert f"row {comma_row}: '0,5'" in message and f"row {point_row}: '0.5'" in message
+    assert err.value.row == max(comma_row, point_row)
+
+
+_PLAIN_CELLS = ["R1", "4k7", "100n", "1-10", "", " x ", "MAR-6"]
+_ODD_CELLS = ["1-Oct", "1E3", "'1E3", "'", "2024-10-01"]
+_PLAIN_NUMBERS = ["", "1", "12", "0.5", "-3", "1e3", ".5", "5."]
+_ODD_NUMBERS = ["x", "'7", "."]
+
+
+def _table_rows(cells: list[str], numbers: list[str]):
+    cell, number = st.sampled_from(cells), st.sampled_from(numbers)
+    return st.lists(st.tuples(cell, number, cell), min_size=25, max_size=80)
+
+
+@settings(
+    max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
+@given(
+    rows=st.one_of(
+        _table_rows(_PLAIN_CELLS, _PLAIN_NUMBERS),  # whole blocks of plain cells: the fast path
+        _table_rows(_PLAIN_CELLS + _ODD_CELLS, _PLAIN_NUMBERS + _ODD_NUMBERS),
+    )
+)
+def test_block_reading_agrees_with_row_reading(tmp_path: Path, rows) -> None:
+    # The first 20 rows of a file are read one by one while the header is looked for; later rows
+    # a block at a time. Oracle: each row alone in a file of its own (read row by row).
+    import csv
+    import io
+
+    def as_csv(body) -> bytes:
+        buffer = io.StringIO()
+        csv.writer(buffer).writerows([("part", "qty", "value"), *body])
+        return buffer.getvalue().encode()
+
+    kw = {"text_columns": ["number", "value"], "numeric_columns": ["qty"]}
+    expected: list = []
+    first_error = None
+    for number, row in enumerate(rows, 2):
+        try:
+            alone = _read(_csv(tmp_path, as_csv([row]), "one.csv"), **kw).rows
+        except ImportFileError as exc:
+            first_error = (number, exc.column)
+            break
+        expected += [(number, r.cells) for r in alone]
+    path = _csv(tmp_path, as_csv(rows), "all.csv")
+    if first_error is None:
+        assert [(r.number, r.cells) for r in _read(path, **kw).rows] == expected
+    else:
+        with pytest.raises(ImportFileError) as err:
+            _read(path, **kw)
+        assert (err.value.row, err.value.column) == first_error

@@ -19,7 +19,7 @@ BUILTIN_SCIENTIFIC_FORMATS = frozenset({11, 48})
 
 
 def is_scientific_format(code: str) -> bool:
-    """True when a spreadsheet (OOXML) number format code shows scientific notation (``0.00E+00``)."""
+    """True when an OOXML number format code shows scientific notation (``0.00E+00``)."""
     # Drop quoted literals and backslash-escaped characters before looking for E+ / E-.
     bare = re.sub(r'"[^"]*"|\\.', "", code)
     return re.search(r"[eE][+-]", bare) is not None

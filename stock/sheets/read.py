@@ -21,6 +21,7 @@ from collections import Counter
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from enum import Enum
+from itertools import chain, repeat
 from pathlib import Path
 from typing import Any
 
@@ -104,12 +105,21 @@ _SUSPECT = re.compile(
     r"|(?P<long>\d{16,})"
 )
 _SUSPECT_START = frozenset("0123456789+-.JFMASOND")
+# The same, for a whole column of cells joined by NUL (the fast path of a CSV import).
+# Search "\0" + joined + "\0": the literal NUL first lets the regex engine skip ahead quickly.
+_SUSPECT_IN_COLUMN = re.compile(rf"\0(?=[0-9+\-.JFMASOND])(?:{_SUSPECT.pattern})(?=\0)")
+
+_BLOCK_ROWS = 4096  # rows checked together on the fast path of a CSV import
 
 # --- numbers in numeric columns ------------------------------------------------------------------
 _INT = re.compile(r"[+-]?\d+")
 _POINT = re.compile(r"[+-]?(?:\d+\.\d*|\.\d+)(?:[eE][+-]?\d+)?|[+-]?\d+[eE][+-]?\d+")
 _COMMA = re.compile(r"[+-]?\d*,\d+")
 _THOUSANDS = re.compile(r"[+-]?\d{1,3}(?:,\d{3})+")
+_NUMBER_OR_EMPTY = r"(?:[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)?"
+# A column of cells joined by NUL, each empty, an integer, or a number with a decimal point.
+_DROP_ASCII_DIGITS = str.maketrans("", "", "0123456789")
+_POINT_COLUMN = re.compile(rf"{_NUMBER_OR_EMPTY}(?:\0{_NUMBER_OR_EMPTY})*")
 
 
 def _month_number(abbrev: str) -> int:
@@ -173,6 +183,7 @@ class _Source:
     encoding: str | None = None
     delimiter: str | None = None
     col_offset: int = 0  # XLSX: 0-based sheet column of raw cell 0
+    records: list[list[str]] | None = None  # CSV: every record, row n at index n - 1
     close: Callable[[], None] = lambda: None
 
 
@@ -270,6 +281,7 @@ def _open_csv(path: Path, file: str, limits: Limits) -> _Source:
         total=len(records),
         rows=((i, rec) for i, rec in enumerate(records, 1)),
         is_xlsx=False,
+        records=records,
         encoding=encoding,
         delimiter=delimiter,
     )
@@ -446,6 +458,7 @@ class _Reader:
         self.point_row: tuple[int, str] | None = None  # first decimal point (row, text)
         self.suspect_numbers: dict[tuple[int, int], tuple[str, str]] = {}
         self.spellings = columns
+        self.progress: Callable[[int, int], None] | None = None
         lookup = _build_lookup(columns, mapping, source.file)
         head, self._pending = self._find_header(lookup, required, mapping or {})
         self.header_row, header_cells = head
@@ -517,6 +530,7 @@ class _Reader:
                     f"{', '.join(headers)}){suggest(header, headers)}",
                     **self._where(number),
                 )
+        self._consumed = searched[-1][0] if searched else 0
         return searched[best_pos], searched[best_pos + 1 :]
 
     # --- cells ----------------------------------------------------------------------------------
@@ -628,14 +642,96 @@ class _Reader:
 
     def rows(self) -> Iterator[Row]:
         """Yield the data rows (blank rows skipped), checking each cell."""
-        make = self._xlsx_rows if self.source.is_xlsx else self._csv_rows
+        source = self.source
         try:
-            yield from make(self._pending)
-            yield from make(self.source.rows)
+            if source.records is None:
+                yield from self._xlsx_rows(self._pending)
+                yield from self._xlsx_rows(source.rows)
+            else:
+                yield from self._csv_rows(self._pending)
+                yield from self._csv_blocks(source.records, self._consumed)
             if self.suspect_numbers:
                 self._check_number_formats()
         finally:
             self.source.close()
+
+    def _csv_blocks(self, records: list[list[str]], start: int) -> Iterator[Row]:
+        """Rows of ``records[start:]`` (file row ``start + 1`` on), a block of rows at a time.
+
+        Fast path: each block is turned into columns and every check runs on a whole column at
+        once (C-level string operations on the column's cells joined by NUL, which no CSV text
+        holds). Any block with anything unusual in it (an apostrophe, a cell a check could
+        refuse, a ragged or over-long row) is done again row by row by :meth:`_csv_rows`, which
+        makes every decision and raises the error of the first bad row.
+        """
+        plan = self.plan
+        if not plan:
+            return
+        names = [c.name for c in plan]
+        need = max(c.index for c in plan) + 1
+        max_columns, max_chars = self.limits.max_columns, self.limits.max_cell_chars
+        unescape = self.unescape
+        strip = str.strip
+        for first in range(start, len(records), _BLOCK_ROWS):
+            block = records[first : first + _BLOCK_ROWS]
+            numbers = range(first + 1, first + 1 + len(block))
+            columns = None
+            if min(map(len, block)) < need:  # short rows (blank lines): missing cells are ''
+                for record in block:
+                    if len(record) < need:
+                        record.extend([""] * (need - len(record)))
+            if (
+                max(map(len, block)) <= max_columns
+                and max(map(len, chain.from_iterable(block))) <= max_chars
+            ):
+                transposed = list(zip(*block, strict=False))
+                columns = [list(map(strip, transposed[c.index])) for c in plan]
+                for col, cells in zip(plan, columns, strict=True):
+                    if not self._column_is_plain(col, cells, numbers, unescape):
+                        columns = None
+                        break
+            if self.progress is not None and first > start:
+                self.progress(first, self.source.total)
+            if columns is None:
+                yield from self._csv_rows(zip(numbers, block, strict=True))
+                continue
+            rows = list(zip(*columns, strict=True))
+            cells = map(dict, map(zip, repeat(names), rows))
+            if all(map(any, rows)):
+                yield from map(Row, numbers, cells)
+            else:  # skip blank rows
+                for number, values, row_cells in zip(numbers, rows, cells, strict=True):
+                    if any(values):
+                        yield Row(number, row_cells)
+
+    def _column_is_plain(
+        self, col: _Column, cells: list[str], numbers: range, unescape: bool
+    ) -> bool:
+        """True when no cell of this block of a column needs a row-by-row look."""
+        joined = "\0".join(cells)
+        if unescape and (joined.startswith(APOSTROPHE) or "\0'" in joined):
+            return False
+        if col.kind is _Kind.TEXT:
+            return _SUSPECT_IN_COLUMN.search(f"\0{joined}\0") is None
+        if col.kind is _Kind.NUMERIC:
+            # Digits, decimal points and separators only, at most one point per cell, no cell a
+            # lone point: plain numbers (string operations, much faster than the regex below).
+            rest = joined.translate(_DROP_ASCII_DIGITS)
+            plain = (
+                not rest.replace("\0", "").replace(".", "")
+                and ".." not in rest
+                and "\0.\0" not in f"\0{joined}\0"
+            )
+            if not plain and _POINT_COLUMN.fullmatch(joined) is None:
+                return False
+            if "." in rest and self.comma_row is not None:
+                return False
+            dot = joined.find(".")
+            if dot >= 0:
+                index = joined.count("\0", 0, dot)
+                if self.point_row is None or numbers[index] < self.point_row[0]:
+                    self.point_row = (numbers[index], cells[index])
+        return True
 
     def _csv_rows(self, records: Iterable[tuple[int, list[str]]]) -> Iterator[Row]:
         # The hot loop of a 50,000-row import: locals only, and the cheap tests first.
@@ -681,7 +777,10 @@ class _Reader:
 
     def _xlsx_rows(self, records: Iterable[tuple[int, list[Any]]]) -> Iterator[Row]:
         plan = self.plan
+        progress, total = self.progress, self.source.total
         for number, raw in records:
+            if progress is not None and number % _BLOCK_ROWS == 0:
+                progress(number, total)
             row = self._xlsx_row(number, raw, plan)
             if row is not None:
                 yield row
@@ -790,23 +889,19 @@ def read_table(
         limits=limits,
     )
     source = reader.source
-    total = source.total
-    step = max(1000, total // 100)
-    rows: list[Row] = []
-    first_seen: dict[tuple[str, ...], int] = {}
+    reader.progress = progress
+    rows = list(reader.rows())
     duplicates: list[tuple[int, int]] = []
-    next_report = step
-    for row in reader.rows():
-        rows.append(row)
-        key = tuple(row.cells.values())
-        first = first_seen.setdefault(key, row.number)
-        if first != row.number:
-            duplicates.append((row.number, first))
-        if progress is not None and row.number >= next_report:
-            progress(row.number, total)
-            next_report = row.number + step
+    keys = [tuple(row.cells.values()) for row in rows]
+    # Built from the last row to the first, the dict keeps each key's FIRST row index.
+    first_index = dict(zip(reversed(keys), range(len(keys) - 1, -1, -1), strict=True))
+    if len(first_index) < len(keys):
+        for row, key in zip(rows, keys, strict=True):
+            first = rows[first_index[key]].number
+            if first != row.number:
+                duplicates.append((row.number, first))
     if progress is not None:
-        progress(total, total)
+        progress(source.total, source.total)
     return Table(
         file=source.file,
         sheet=source.sheet,
