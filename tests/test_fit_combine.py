@@ -327,5 +327,5 @@ def test_rss_is_narrower_than_worst_case() -> None:
 def test_describe_and_excursion() -> None:
     r = make("R-1k0", Kind.RESISTOR, 1e3, 0.01, 3)
     combo = Combination(Topology.SERIES_PARALLEL, (r, r, r), 1500.0, 1485.0, 1515.0, 0.0)
-    assert combo.describe() == "R-1k0 + (R-1k0 ∥ R-1k0)"
+    assert combo.describe() == "R-1k0 in series with (R-1k0 ∥ R-1k0)"
     assert combo.excursion == approx(0.01)

@@ -110,15 +110,19 @@ class Combination:
         return max(target - self.low, self.high - target) / target
 
     def describe(self) -> str:
-        """``1k0 + 4k7`` style text: the parts by number, joined by their wiring."""
+        """The parts by number, joined by their wiring: ``A in series with (B ∥ C)``.
+
+        Words for series, because ``+`` would read as adding values, which series
+        capacitors do not.
+        """
         names = [s.part.number for s in self.parts]
         if self.topology is Topology.SERIES:
-            return " + ".join(names)
+            return " in series with ".join(names)
         if self.topology is Topology.PARALLEL:
             return " ∥ ".join(names)
         if self.topology is Topology.SERIES_PARALLEL:
-            return f"{names[0]} + ({names[1]} ∥ {names[2]})"
-        return f"{names[0]} ∥ ({names[1]} + {names[2]})"
+            return f"{names[0]} in series with ({names[1]} ∥ {names[2]})"
+        return f"{names[0]} ∥ ({names[1]} in series with {names[2]})"
 
 
 # --- values of a combination -------------------------------------------------------------
