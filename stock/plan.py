@@ -282,6 +282,10 @@ def _cost_of(allocs: Sequence[Allocation], short: dict[str, int], links: Sequenc
 
 _INT_LIMIT = 2**62  # keep every arc cost × node count inside a signed 64-bit integer
 
+#: Largest cost a link or a short unit may have. The cost model's points are in the
+#: hundreds; this bound keeps the solver's own cost arithmetic inside 64 bits.
+MAX_COST = 2**45
+
 
 def solve(demands: Sequence[Demand], supplies: Sequence[Supply], links: Sequence[Link], *,
           short_cost: int | None = None) -> Plan:
@@ -296,6 +300,9 @@ def solve(demands: Sequence[Demand], supplies: Sequence[Supply], links: Sequence
     demands, supplies, links = _checked(demands, supplies, links)
     if short_cost is None:
         short_cost = _default_short_cost(demands, links)
+    if not 0 <= short_cost <= MAX_COST or any(lk.cost > MAX_COST for lk in links):
+        raise PlanError(f"costs must lie between 0 and {MAX_COST} points; scale the cost "
+                        "model down")
     active = [d for d in demands if d.qty > 0]
     total = sum(d.qty for d in active)
     rank = {d.key: i for i, d in enumerate(active)}

@@ -224,3 +224,37 @@ def test_plan_is_sound_and_deterministic_on_larger_stores(problem):
     assert check_plan(a, demands, supplies, links) == []
     assert a.allocations == b.allocations and a.short == b.short and a.notes == b.notes
     assert a.cost <= greedy(demands, supplies, links).cost
+
+
+def test_huge_costs_fall_back_to_unscaled_and_stay_exact():
+    # 10 000 units with a short cost of 2^45 would overflow 64-bit integers once scaled
+    # for the tie offsets; the plan then drops the offsets but keeps the exact optimum.
+    demands = [Demand("a", 10_000), Demand("b", 1)]
+    supplies = [Supply("X", "D1", 5_000)]
+    links = [Link("a", "X", 3, False), Link("b", "X", 0, True)]
+    plan = solve(demands, supplies, links, short_cost=2**45)
+    assert check_plan(plan, demands, supplies, links) == []
+    # hand-computed: b takes one X (0), a the other 4 999 (3 each), 5 001 units of a short
+    assert plan.cost == 3 * 4_999 + 2**45 * 5_001
+    assert plan.short == {"a": 5_001}
+    with pytest.raises(PlanError, match="costs must lie between"):
+        solve(demands, supplies, links, short_cost=2**59)
+
+
+@pytest.mark.slow
+def test_larger_store_is_sound_and_beats_or_ties_greedy():
+    # 120 demands × 40 parts, pseudo-random but fixed (no wall-clock assertions).
+    import random
+
+    rnd = random.Random(7)
+    parts = [f"P{i}" for i in range(40)]
+    demands = [Demand(f"k:S{i}", rnd.randint(1, 6), i) for i in range(120)]
+    supplies = [Supply(p, f"D{j}", rnd.randint(0, 8)) for p in parts for j in range(2)]
+    links = []
+    for d in demands:
+        for p in rnd.sample(parts, 4):
+            exact = rnd.random() < 0.25
+            links.append(Link(d.key, p, 0 if exact else rnd.randint(100, 200), exact))
+    plan = solve(demands, supplies, links)
+    assert check_plan(plan, demands, supplies, links) == []
+    assert plan.cost <= greedy(demands, supplies, links).cost
