@@ -6,6 +6,8 @@ from __future__ import annotations
 import json
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from stock.errors import QuantityError
 from stock.kinds import Kind
@@ -201,3 +203,38 @@ def test_demo_kits_call_for_parts_that_meet_their_own_slots():
                           include_failing=True)
             assert a.fitness.value != "fails", (kit.name, slot.label,
                                                 [c.why for c in a.failures])
+
+
+_E12 = ["1k", "1k2", "1k5", "1k8", "2k2", "2k7", "3k3", "3k9", "4k7", "5k6", "6k8", "8k2"]
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.lists(st.tuples(st.sampled_from(_E12), st.integers(1, 4)), min_size=1, max_size=5,
+                unique_by=lambda t: t[0]),
+       st.lists(st.tuples(st.sampled_from(_E12), st.sampled_from(["A1", "A2"]),
+                          st.integers(0, 9)), max_size=8, unique_by=lambda t: (t[0], t[1])),
+       st.integers(1, 3))
+def test_random_kits_and_stores_never_overspend(slots, stock, copies):
+    # Random resistor kits (IEC 60063 E12 values) against random drawers: the check's plan
+    # never takes more than is free, and every unit is allocated or reported short.
+    lines = ['name = "r"']
+    n = 1
+    for value, qty in slots:
+        lines += ["[[slot]]", f'refs = "R{n}-R{n + qty - 1}"' if qty > 1 else f'refs = "R{n}"',
+                  f'calls_for = "{value} 5%"', 'kind = "resistor"']
+        n += qty
+    kit = parse_kit("\n".join(lines))
+    by_value: dict[str, list[tuple[str, int]]] = {}
+    for value, drawer, free in stock:
+        by_value.setdefault(value, []).append((drawer, free))
+    shelf = FakeStore([(called_part(Kind.RESISTOR, f"{v} 5%"), d) for v, d in by_value.items()])
+    rep = check([(kit, copies)], shelf, POLICY, catalog=lambda _: None, combinations=False)
+    free = {(f"{v} 5%", d): f for v, ds in by_value.items() for d, f in ds}
+    for (part, drawer), taken in rep.plan.taken().items():
+        assert taken <= free[(part, drawer)]
+    for sc in rep.slots:
+        assert sum(a.qty for a in sc.allocations) + sc.short == sc.slot.qty * copies
+        # a 5 % E12 value never stands in for another (their spacing is wider than ±5 %)
+        assert all(a.exact for a in sc.allocations)
+    assert 0 <= rep.summaries[0].buildable <= copies
+    assert (rep.summaries[0].buildable == copies) == rep.complete
