@@ -287,46 +287,63 @@ def test_search_is_monotonic_and_every_hit_meets_the_criterion(name, a, b, op):
 
 
 # --- templates ------------------------------------------------------------------------------------
-@pytest.mark.parametrize(("kind", "family", "hint", "number"), [
-    (Kind.CAPACITOR, "c0g", "100p 50V", "C0G-50V"),
-    (Kind.CAPACITOR, "NP0", "47p", "C0G-50V"),  # lowest rating when none is asked (conservative)
-    (Kind.CAPACITOR, "c0g", "100p 200V", "C0G-500V"),  # the smallest rating that meets 200 V
-    (Kind.CAPACITOR, "x7r", "100n 63V", "X7R-100V"),
-    (Kind.CAPACITOR, "electrolytic", "470u 25V", "ELECTROLYTIC-25V-105C"),
-    (Kind.CAPACITOR, "electrolytic", "100u 16V", "ELECTROLYTIC-16V-85C"),
-    (Kind.CAPACITOR, "electrolytic", "100u 16V 105C", "ELECTROLYTIC-16V-105C"),
-    (Kind.CAPACITOR, "film", "10n 230VAC", "X2-275VAC"),
-    (Kind.RESISTOR, "carbon-film", "4k7 1/4W", "CF-0.25W"),
-    (Kind.RESISTOR, "metal-film", "10k 0.5W", "MF-0.6W"),
-    (Kind.CRYSTAL, "fundamental", "10MHz HC-49/S", "HC-49/S-FUND"),
-    (Kind.CRYSTAL, "overtone", "27MHz", "HC-49/U-3OT"),
+@pytest.mark.parametrize(("kind", "family", "hint", "number", "rating"), [
+    (Kind.CAPACITOR, "c0g", "100p 50V", "C0G-50V", ("v_rated", 50)),
+    # no rating written: the lowest-rated template (conservative)
+    (Kind.CAPACITOR, "NP0", "47p", "C0G-50V", ("v_rated", 50)),
+    # a rating written replaces the template's own: the part claims what the builder wrote
+    (Kind.CAPACITOR, "c0g", "100p 200V", "C0G-500V", ("v_rated", 200)),
+    (Kind.CAPACITOR, "x7r", "100n 63V", "X7R-100V", ("v_rated", 63)),
+    (Kind.CAPACITOR, "x7r", "100n 1000V", "X7R-100V", ("v_rated", 1000)),
+    (Kind.CAPACITOR, "electrolytic", "470u 25V", "ELECTROLYTIC-25V-105C", ("v_rated", 25)),
+    (Kind.CAPACITOR, "electrolytic", "100u 16V", "ELECTROLYTIC-16V-85C", ("tmax", 85)),
+    (Kind.CAPACITOR, "electrolytic", "100u 16V 105C", "ELECTROLYTIC-16V-105C", ("tmax", 105)),
+    (Kind.CAPACITOR, "tantalum", "10u 50V", "TANTALUM-35V", ("v_rated", 50)),
+    (Kind.CAPACITOR, "film", "100n X2 275VAC", "X2-275VAC", ("v_ac", 275)),
+    (Kind.CAPACITOR, "film", "100n 250V", "FILM-PET-250V", ("v_rated", 250)),
+    (Kind.RESISTOR, "carbon-film", "4k7 1/4W", "CF-0.25W", ("p_rated", 0.25)),
+    (Kind.RESISTOR, "metal-film", "10k 0.5W", "MF-0.6W", ("p_rated", 0.5)),
+    (Kind.CRYSTAL, "fundamental", "10MHz HC-49/S", "HC-49/S-FUND", ("overtone", 1)),
+    (Kind.CRYSTAL, "overtone", "27MHz", "HC-49/U-3OT", ("overtone", 3)),
 ])
-def test_template_choice(cat, kind, family, hint, number):
+def test_template_choice(cat, kind, family, hint, number, rating):
     t = cat.template(kind, family, hint)
     assert t is not None and t.number == number
+    name, value = rating
+    assert [p.value for p in t.values(name)] == [pytest.approx(value)]
     assert all(p.origin is Origin.CATALOG for p in t.params)
+    assert cat.get(number).get("tol") == t.get("tol")  # family figures come from the template
 
 
-def test_template_never_claims_a_rating_it_lacks(cat):
-    assert cat.template(Kind.CAPACITOR, "x7r", "100n 1000V") is None
-    assert cat.template(Kind.CAPACITOR, "tantalum", "10u 63V") is None
+def test_safety_class_only_when_the_builder_names_it(cat):
+    # IEC 60384-14 (facts.md §3.4): a class is a claim about the part; never infer one
+    for hint in ("100n 275VAC", "100n 300V", "100n", "4n7 250VAC"):
+        t = cat.template(Kind.CAPACITOR, "film", hint)
+        assert t is not None and "safety" not in t.attrs, hint
+    assert cat.template(Kind.CAPACITOR, "film", "4n7 Y2").attrs["safety"] == "Y2"
+
+
+def test_no_template_for_a_family_without_one(cat):
     assert cat.template(Kind.INDUCTOR, "air", "1u") is None
+    assert cat.template(Kind.CAPACITOR, "trimmer", "30p") is None
 
 
 @settings(max_examples=60, deadline=None)
 @given(volts=st.floats(1, 700), family=st.sampled_from(["c0g", "x7r", "x5r", "electrolytic",
                                                          "tantalum", "film"]))
-def test_template_picks_the_lowest_rating_that_meets_the_hint(volts, family):
+def test_template_takes_the_lowest_rating_that_meets_the_hint(volts, family):
     cat = _shipped()
-    t = cat.template(Kind.CAPACITOR, family, f"{volts:.2f}V")
-    rated = [(s.get("v_rated") or s.get("v_ac")).value
-             for s in cat.templates(Kind.CAPACITOR, family)]
-    enough = [v for v in rated if v >= round(volts, 2)]
-    if not enough:
-        assert t is None
-    else:
-        assert t is not None
-        assert (t.get("v_rated") or t.get("v_ac")).value == min(enough)
+    v = round(volts, 2)
+    t = cat.template(Kind.CAPACITOR, family, f"{v:.2f}V")
+    assert t is not None
+
+    def rated(s):  # noqa: ANN001, ANN202
+        return (s.get("v_rated") or s.get("v_ac")).value
+
+    assert rated(t) == pytest.approx(v)  # the builder's rating, never the template's
+    ratings = [rated(s) for s in cat.templates(Kind.CAPACITOR, family) if "safety" not in s.attrs]
+    enough = [r for r in ratings if r >= v]
+    assert rated(cat.get(t.number)) == (min(enough) if enough else max(ratings))
 
 
 def test_crystal_template_carries_typical_motional_values(cat):

@@ -166,33 +166,33 @@ class Catalog:
                 and (fam is None or e.spec.family == fam)]
 
     def template(self, kind: Kind, family: str | None, hint: str = "") -> PartSpec | None:
-        """The template a passive of ``kind``/``family`` takes its figures from, or None.
+        """The figures a passive of ``kind``/``family`` takes from its template, or None.
 
-        ``hint`` is what the builder wrote (``"100n 50V"``, ``"4k7 0.6W"``, ``"22u 25V 105C"``,
-        ``"HC-49/S"``): a voltage, power or temperature in it must be met by the template's
-        rating (the lowest rating that meets it wins, so nothing claims more than it must);
-        words matching a template's number or package come first. Without a hint the
-        lowest-rated template of the family is chosen: the conservative one.
+        ``hint`` is what the builder wrote (``"100n 63V"``, ``"4k7 1/4W"``, ``"22u 25V 105C"``,
+        ``"10M HC-49/S"``). Words matching a template's number or package come first; then
+        the lowest-rated template that meets every rating written (failing that, the
+        highest-rated one). A rating written in the hint then replaces the template's own,
+        so the result claims exactly what the builder wrote: ``100n 63V`` of x7r gets the
+        X7R figures with v_rated = 63 V, not the 100 V of the template they come from.
+        Without a rating the lowest-rated template is taken: the conservative choice. A
+        safety-class template (``X2-275VAC``) is used only when the hint names its class.
         """
-        cands = self.templates(kind, family)
+        want = _read_hint(hint)
+        # a safety class (X2, Y2) is a claim about the part: only when the builder names it
+        cands = [t for t in self.templates(kind, family)
+                 if not t.attrs.get("safety") or t.attrs["safety"].upper() in want.words]
         if not cands:
             return None
-        want = _read_hint(hint)
-        kept = []
-        for t in cands:
-            if not _rating_ok(t, want):
-                continue
-            kept.append(t)
-        if not kept:
-            return None
-        words = want.words
 
-        def rank(t: PartSpec) -> tuple[float, ...]:
+        def rank(t: PartSpec) -> tuple[object, ...]:
             text = f"{t.number} {t.package or ''}".upper()
-            score = sum(1 for w in words if w in text)
-            return (-score, _first(t, "v_rated", "v_ac", "p_rated"), _first(t, "tmax"))
+            score = sum(1 for w in want.words if w in text)
+            rating = (_first(t, "v_rated", "v_ac", "p_rated"), _first(t, "tmax"))
+            if _rating_ok(t, want):
+                return (-score, 0, rating)
+            return (-score, 1, tuple(-x for x in rating))
 
-        return min(kept, key=rank)
+        return _apply_hint(min(cands, key=rank), want)
 
     # --- candidates to buy -------------------------------------------------------------------
     def to_buy(self, kind: Kind | None = None, family: str | None = None,
@@ -283,6 +283,24 @@ def _rating_ok(t: PartSpec, want: _Hint) -> bool:
     if want.watts is not None and _first(t, "p_rated") < want.watts * (1 - _REL):
         return False
     return not (want.celsius is not None and _first(t, "tmax") < want.celsius)
+
+
+def _apply_hint(t: PartSpec, want: _Hint) -> PartSpec:
+    """``t`` with the ratings the builder wrote in place of the template's own."""
+    new: list[Param] = []
+
+    def put(name: str, value: float | None) -> None:
+        p = t.get(name)
+        if value is not None and p is not None:
+            new.append(Param(name, p.bound, value, p.at, Origin.CATALOG))
+
+    if want.ac or t.get("v_rated") is None:
+        put("v_ac", want.volts)
+    else:
+        put("v_rated", want.volts)
+    put("p_rated", want.watts)
+    put("tmax", want.celsius)
+    return t.with_params(new) if new else t
 
 
 def _first(spec: PartSpec, *names: str) -> float:
