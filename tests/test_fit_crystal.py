@@ -20,13 +20,16 @@ from stock.fit.crystal import (
     c0_from_fa,
     cl_for_offset,
     find_pullable,
+    load_group,
     load_offset,
+    pierce_load,
     pull,
     reachable,
     sensitivity,
 )
 from stock.kinds import Bound, Kind
 from stock.parts import Param, PartSpec, Stocked
+from stock.slots import Role, Slot
 
 
 def approx(expected, rel: float = 1e-6, abs: float = 0.0):
@@ -200,3 +203,76 @@ def test_c0_from_fa_inverts_the_antiresonance(c1, c0, fs) -> None:
 @given(c1=c1s, c0=c0s, cl=st.floats(1e-13, 100e-12))
 def test_cl_for_offset_inverts_load_offset(c1, c0, cl) -> None:
     assert cl_for_offset(c1, c0, load_offset(c1, c0, cl)) == approx(cl, rel=1e-9)
+
+
+# --- a crystal's load group -------------------------------------------------------------------
+
+@pytest.mark.parametrize("case", CASES["pierce_load"], ids=lambda c: c["source"][:50])
+def test_pierce_load(case: dict) -> None:
+    got = pierce_load(case["c_a"], case["c_b"], case["c_stray"])
+    assert got == approx(case["cl"], rel=case["rel"])
+
+
+def _load_slots(c5: float, c6: PartSpec | float, xtal: PartSpec | None = None) -> list[Slot]:
+    def cap(n: str, v: float) -> PartSpec:
+        return PartSpec(n, Kind.CAPACITOR, "c0g", params=[Param("c", Bound.NOM, v)])
+
+    part6 = c6 if isinstance(c6, PartSpec) else cap("C-6", c6)
+    return [Slot(["Y1"], 1, "10 MHz", Kind.CRYSTAL, xtal or crystal(), Role.CRYSTAL, tie="x"),
+            Slot(["C5"], 1, "33p", Kind.CAPACITOR, cap("C-5", c5), Role.CRYSTAL_LOAD, tie="x"),
+            Slot(["C6"], 1, "33p", Kind.CAPACITOR, part6, Role.CRYSTAL_LOAD, tie="x")]
+
+
+def _pull_ppm(cl_from: float, cl_to: float) -> float:
+    # facts.md §5.2 (Petermann): Δf/f ≈ (C1/2)(1/(C0+CL2) − 1/(C0+CL1)), C1 20 fF, C0 5 pF
+    return 0.5 * 20e-15 * (1 / (5e-12 + cl_to) - 1 / (5e-12 + cl_from)) * 1e6
+
+
+def test_load_group_fixed_capacitors() -> None:
+    # 33 p + 33 p with 3.5 p stray is the crystal's specified 20 pF: exactly on 10 MHz
+    slots = _load_slots(33e-12, 33e-12)
+    same = load_group(slots, {}, c_stray=3.5e-12)
+    assert same.reachable and same.f_low == approx(10e6, rel=1e-12)
+    # a 36 p stand-in for C6: CL = 33·36/69 + 3.5 = 20.72 pF, about −11 ppm: on frequency
+    near = load_group(slots, {"C6": 36e-12}, 10e6, c_stray=3.5e-12)
+    shift = (near.f_low / 10e6 - 1) * 1e6
+    assert shift == approx(_pull_ppm(20e-12, 33 * 36 / 69 * 1e-12 + 3.5e-12), rel=1e-3)
+    assert -12 < shift < -11 and near.reachable and "on frequency" in near.text
+    # a 39 p stand-in: CL = 21.375 pF, about −20.9 ppm: beyond the 20 ppm rule ...
+    far = load_group(slots, {"C6": 39e-12}, 10e6, c_stray=3.5e-12,
+                     policy={"xtal_load_ppm_tol": 20.0})
+    assert (far.f_low / 10e6 - 1) * 1e6 == approx(_pull_ppm(20e-12, 21.375e-12), rel=1e-3)
+    assert not far.reachable
+    # ... but inside a crystal whose own tolerance is ±30 ppm
+    tol30 = crystal().with_params([Param("tol", Bound.MAX, 30e-6)])
+    slots30 = _load_slots(33e-12, 33e-12, tol30)
+    assert load_group(slots30, {"C6": 39e-12}, 10e6, c_stray=3.5e-12).reachable
+
+
+def test_load_group_with_trimmer_and_a_crystal_stand_in() -> None:
+    trim = PartSpec("VC-6", Kind.CAPACITOR, "trimmer",
+                    params=[Param("c", Bound.MIN, 10e-12), Param("c", Bound.MAX, 60e-12)])
+    slots = _load_slots(33e-12, trim)
+    # as designed: trimmer at mid (35 p), CL = 33·35/68 + 3.5 pF = 20.49 pF
+    designed = load_group(slots, {}, c_stray=3.5e-12)
+    cl_mid = 33 * 35 / 68 * 1e-12 + 3.5e-12
+    assert (designed.f_wanted / 10e6 - 1) * 1e6 == approx(_pull_ppm(20e-12, cl_mid), rel=1e-3)
+    # a stand-in crystal marked 10 ppm high: the trimmer (CL 11.2–24.8 pF) takes it back
+    high = crystal("X-high", f=10e6 * (1 + 10e-6))
+    r = load_group(slots, {"Y1": high}, c_stray=3.5e-12)
+    assert r.reachable and r.f_wanted == designed.f_wanted
+    assert r.cl_needed is not None and 11.1e-12 < r.cl_needed < 24.8e-12
+    # one marked 500 ppm high is beyond the whole trimmer range
+    assert not load_group(slots, {"Y1": crystal("X-far", f=10.005e6)},
+                          c_stray=3.5e-12).reachable
+
+
+def test_load_group_errors() -> None:
+    slots = _load_slots(33e-12, 33e-12)
+    with pytest.raises(FitError):
+        load_group(slots[1:], {})
+    coil = Slot(["L1"], 1, "10u", Kind.INDUCTOR, None, Role.TUNED, tie="x")
+    with pytest.raises(FitError):
+        load_group([*slots, coil], {})
+    with pytest.raises(FitError):
+        pierce_load(-1e-12, 10e-12)

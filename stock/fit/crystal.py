@@ -24,8 +24,10 @@ from dataclasses import dataclass, field
 
 from stock.errors import FitError
 from stock.fit.combine import fmt_si, policy_value
+from stock.fit.tuned import TRIMMER_FAMILIES, trimmer_range
 from stock.kinds import Bound, Kind
 from stock.parts import PartSpec, Stocked
+from stock.slots import Slot
 
 #: C0 assumed when a crystal's record has none (policy ``xtal_c0_assumed``): 7 pF is the
 #: usual HC-49/U specification limit (facts.md §5.2: Intel SA-1110 crystal spec, Yoketant
@@ -131,15 +133,16 @@ def _value(part: PartSpec, name: str) -> tuple[float | None, Bound | None]:
 
 
 def reachable(crystal: PartSpec, f_wanted: float, cl_range: tuple[float, float], *,
-              overtone: int | None = None, policy: Mapping[str, float] | None = None
-              ) -> Pulling:
+              overtone: int | None = None, policy: Mapping[str, float] | None = None,
+              ppm_tol: float = 0.0) -> Pulling:
     """Can ``crystal`` be pulled onto ``f_wanted`` (Hz) by a load within ``cl_range`` (F)?
 
     The record gives ``f`` at its specified load ``cl`` (0 or absent: series resonance),
     ``c1`` (needed), ``c0`` (else 7 pF is assumed) and ``overtone`` (n; pullability ≈ 1/n²,
     modelled by C1/n², where ``c1`` is read as the fundamental-mode value). Then
     ``fs = f/(1 + offset(cl_spec))`` and the reachable range is ``fs·(1 + offset(CL))`` over
-    ``cl_range``.
+    ``cl_range``, widened by ``ppm_tol`` either side (for a fixed load, where the range is
+    one point).
     """
     lo_cl, hi_cl = sorted(cl_range)
     if lo_cl < 0:
@@ -186,7 +189,7 @@ def reachable(crystal: PartSpec, f_wanted: float, cl_range: tuple[float, float],
     f_high = fs * (1.0 + load_offset(c1_eff, c0, lo_cl))
     f_low = fs * (1.0 + load_offset(c1_eff, c0, hi_cl))
     cl_need = cl_for_offset(c1_eff, c0, f_wanted / fs - 1.0)
-    slack = 1e-12 * f_wanted
+    slack = (1e-12 + ppm_tol * 1e-6) * f_wanted
     ok = f_low - slack <= f_wanted <= f_high + slack
     tol = crystal.high("tol")
     if tol is not None:
@@ -196,7 +199,9 @@ def reachable(crystal: PartSpec, f_wanted: float, cl_range: tuple[float, float],
     rng = (f"reaches {_hz(f_low)}–{_hz(f_high)} with CL "
            f"{fmt_si(lo_cl, 'F')}–{fmt_si(hi_cl, 'F')}")
     want = _hz(f_wanted)
-    if ok:
+    if ok and cl_need is not None and not lo_cl * (1 - 1e-9) <= cl_need <= hi_cl * (1 + 1e-9):
+        text = (f"{where} {rng}; {want} is within ±{ppm_tol:g} ppm of that: on frequency")
+    elif ok:
         text = (f"{where} {rng}; {want} needs CL ≈ {fmt_si(cl_need or 0.0, 'F')}: can be "
                 "pulled on")
     elif cl_need is None and f_wanted <= fs:
@@ -233,3 +238,126 @@ def find_pullable(f_wanted: float, cl_range: tuple[float, float], stock: Sequenc
             out.append((s, p))
     out.sort(key=lambda sp: (abs((sp[1].cl_needed or 0.0) - mid), -sp[0].free))
     return out
+
+
+# --- a crystal and its load capacitors as one tie group ---------------------------------------
+
+#: Without a trimmer, how far (ppm) a changed load may move the crystal and still count as on
+#: frequency when the crystal states no tolerance (policy ``xtal_load_ppm_tol``).
+LOAD_PPM_TOL = 20.0
+
+#: Stray capacitance of board and oscillator pins, added to the load (policy
+#: ``xtal_c_stray``): typically 2–5 pF (public Pierce load-capacitor notes and calculators).
+C_STRAY_ASSUMED = 3e-12
+
+
+def pierce_load(c_a: float, c_b: float | None = None, c_stray: float = 0.0) -> float:
+    """The load capacitance (F) a crystal sees from its load capacitors.
+
+    Two capacitors from each crystal pin to ground (the Pierce oscillator) are in series as
+    the crystal sees them: ``CL = Ca·Cb/(Ca + Cb) + C_stray`` (the load formula of crystal
+    and microcontroller application notes [common practice]). One capacitor (in series with
+    the crystal, or across it) gives ``CL = Ca + C_stray``.
+    """
+    if c_a <= 0 or (c_b is not None and c_b <= 0) or c_stray < 0:
+        raise FitError("load capacitors must be positive and the stray capacitance not "
+                       "negative; give farads")
+    if c_b is None:
+        return c_a + c_stray
+    return c_a * c_b / (c_a + c_b) + c_stray
+
+
+def _slot_value(slot: Slot, changed: Mapping[str, object]) -> object:
+    for key in (slot.label, *slot.refs):
+        if key in changed:
+            return changed[key]
+    return None
+
+
+def _load_range(caps: list[tuple[float, float]], c_stray: float) -> tuple[float, float]:
+    """CL (min, max) of one or two load capacitors, each given as its (min, max)."""
+    if len(caps) == 1:
+        return pierce_load(caps[0][0], None, c_stray), pierce_load(caps[0][1], None, c_stray)
+    (a_lo, a_hi), (b_lo, b_hi) = caps
+    # CL rises with each capacitor, so its extremes are at both lows and both highs
+    return pierce_load(a_lo, b_lo, c_stray), pierce_load(a_hi, b_hi, c_stray)
+
+
+def _group_parts(slots: Sequence[Slot], changed: Mapping[str, object], use_changes: bool
+                 ) -> tuple[PartSpec, list[tuple[float, float]], bool]:
+    crystals: list[PartSpec] = []
+    caps: list[tuple[float, float]] = []
+    trimmers = 0
+    for slot in slots:
+        new = _slot_value(slot, changed) if use_changes else None
+        part = slot.part
+        if slot.kind is Kind.CRYSTAL:
+            xtal = new if isinstance(new, PartSpec) else part
+            if xtal is None:
+                raise FitError(f"slot {slot.label}: no crystal known; give the part")
+            crystals.append(xtal)
+        elif slot.kind is Kind.CAPACITOR:
+            if isinstance(new, tuple):
+                caps.append((float(new[0]), float(new[1])))
+                trimmers += 1
+            elif isinstance(new, float | int):
+                caps.append((float(new), float(new)))
+            elif part is not None and part.family in TRIMMER_FAMILIES:
+                rng = trimmer_range(part)
+                if rng is None:
+                    raise FitError(f"slot {slot.label}: trimmer without a range; record its c "
+                                   "min and max (c=5p:min, c=30p:max)")
+                caps.append(rng)
+                trimmers += 1
+            else:
+                c = part.nominal("c") if part is not None else None
+                if c is None:
+                    raise FitError(f"slot {slot.label}: no capacitance known; give the part or "
+                                   "its value")
+                caps.append((c, c))
+        else:
+            raise FitError(f"slot {slot.label} is a {slot.kind.value}; a crystal's tie group "
+                           "holds the crystal and its load capacitors")
+    if len(crystals) != 1:
+        raise FitError(f"the tie group has {len(crystals)} crystals; a crystal's load group has "
+                       "exactly one")
+    if not 1 <= len(caps) <= 2:
+        raise FitError(f"the tie group has {len(caps)} load capacitors; give one or two (a "
+                       "Pierce oscillator has one from each pin to ground)")
+    return crystals[0], caps, trimmers > 0
+
+
+def load_group(slots: Sequence[Slot], changed: Mapping[str, object],
+               f_wanted: float | None = None, *, c_stray: float | None = None,
+               ppm_tol: float | None = None, policy: Mapping[str, float] | None = None
+               ) -> Pulling:
+    """A crystal's tie group after a stand-in: is the crystal still (or again) on frequency?
+
+    The group is one crystal and one or two load capacitors (one may be a trimmer, its range
+    on record as ``c`` min and max). ``changed`` maps a slot's label or reference to the
+    stand-in: a value in farads, a trimmer's ``(min, max)``, or a crystal's
+    :class:`~stock.parts.PartSpec`. ``f_wanted`` defaults to the frequency the circuit as
+    designed gives (its trimmer at mid-range). With a trimmer the answer is whether some
+    setting reaches ``f_wanted``; with fixed capacitors, whether the new frequency lies within
+    ``ppm_tol`` (default: the crystal's own tolerance, else policy ``xtal_load_ppm_tol``).
+    """
+    stray = c_stray if c_stray is not None else policy_value(policy, "xtal_c_stray",
+                                                              C_STRAY_ASSUMED)
+    old_xtal, old_caps, _ = _group_parts(slots, changed, use_changes=False)
+    new_xtal, new_caps, has_trimmer = _group_parts(slots, changed, use_changes=True)
+    if f_wanted is None:
+        mid = [((lo + hi) / 2, (lo + hi) / 2) for lo, hi in old_caps]
+        cl = _load_range(mid, stray)[0]
+        ref = reachable(old_xtal, 1.0, (cl, cl), policy=policy)  # any f: only fs is needed
+        if not ref.known:
+            return ref
+        f_wanted = ref.f_low
+    if ppm_tol is None:
+        tol = new_xtal.high("tol")
+        ppm_tol = (abs(tol.value) * 1e6 if tol is not None
+                   else policy_value(policy, "xtal_load_ppm_tol", LOAD_PPM_TOL))
+    cl_range = _load_range(new_caps, stray)
+    result = reachable(new_xtal, f_wanted, cl_range, policy=policy,
+                       ppm_tol=0.0 if has_trimmer else ppm_tol)
+    result.notes.append(f"load includes {fmt_si(stray, 'F')} stray capacitance")
+    return result
