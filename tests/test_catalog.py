@@ -261,6 +261,13 @@ def test_search_equal_matches_nominal_and_text(cat):
     assert fam and all(s.family == "n-jfet" for s in fam)
 
 
+def test_search_by_family_alone_folds_spellings(cat):
+    # "NP0" is the older name of C0G (facts.md §3.2)
+    assert [s.number for s in cat.search(None, "NP0", templates=True)] == \
+        [s.number for s in cat.search(Kind.CAPACITOR, "c0g", templates=True)]
+    assert {s.family for s in cat.search(None, "nmos")} == {"n-mosfet"}
+
+
 def test_search_leaves_templates_out_unless_asked(cat):
     assert all(not is_template(s) for s in cat.search(Kind.CAPACITOR))
     assert any(is_template(s) for s in cat.search(Kind.CAPACITOR, templates=True))

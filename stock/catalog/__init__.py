@@ -24,7 +24,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from stock.errors import ImportFileError, StockError, UnknownPart
-from stock.kinds import FAMILIES, PIN_LETTERS, Bound, Kind, normalise_family
+from stock.kinds import FAMILIES, FAMILY_ALIASES, PIN_LETTERS, Bound, Kind, normalise_family
 from stock.params import PARAMS
 from stock.parts import Origin, Param, PartSpec, Stocked, part_key
 
@@ -142,7 +142,7 @@ class Catalog:
         it is a case-blind comparison. Templates are left out unless ``templates`` is True.
         """
         fam = normalise_family(kind, family) if (kind is not None and family) else (
-            family.strip().lower() if family else None)
+            _fold_family(family) if family else None)
         out = []
         for e in self._entries.values():
             s = e.spec
@@ -160,7 +160,8 @@ class Catalog:
     # --- templates -----------------------------------------------------------------------
     def templates(self, kind: Kind | None = None, family: str | None = None) -> list[PartSpec]:
         """The passive templates of ``kind`` and ``family``, in file order."""
-        fam = normalise_family(kind, family) if (kind is not None and family) else family
+        fam = normalise_family(kind, family) if (kind is not None and family) else (
+            _fold_family(family) if family else None)
         return [_copy(e.spec) for e in sorted(self._entries.values(), key=lambda e: e.order)
                 if is_template(e.spec) and (kind is None or e.spec.kind == kind)
                 and (fam is None or e.spec.family == fam)]
@@ -310,6 +311,12 @@ def _first(spec: PartSpec, *names: str) -> float:
         if p is not None:
             return p.value
     return float("-inf")
+
+
+def _fold_family(text: str) -> str:
+    """A family spelling folded without knowing the kind (``NP0`` -> ``c0g``)."""
+    key = text.strip().lower().replace("_", "-").replace(" ", "-")
+    return FAMILY_ALIASES.get(key, key)
 
 
 def _natural(number: str) -> tuple[object, ...]:
