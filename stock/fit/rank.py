@@ -73,8 +73,10 @@ class Assessment:
         return min(with_margin, key=lambda c: c.margin) if with_margin else None  # type: ignore
 
 
-#: Parameters whose surplus is a scarce capability worth keeping for slots that need it.
-SCARCE = frozenset({"ft", "vceo", "vds", "vrrm", "v_rated", "pd", "ic", "id", "isat"})
+#: Parameters whose surplus is a scarce capability worth keeping for slots that need it,
+#: with a weight: speed is the scarce one (a UHF transistor), voltage less so; current
+#: and power surplus is common and not counted (common practice).
+SCARCE: dict[str, float] = {"ft": 1.0, "vceo": 0.3, "vds": 0.3, "vrrm": 0.3, "v_rated": 0.3}
 
 
 def fitness_of(checks: list[Check]) -> tuple[Fitness, int, float | None]:
@@ -95,13 +97,14 @@ def fitness_of(checks: list[Check]) -> tuple[Fitness, int, float | None]:
 
 
 def versatility(checks: list[Check]) -> float:
-    """Sum of log10(actual/required) over scarce ``>=`` checks: how over-qualified a part is."""
+    """Weighted sum of log10(actual/required) over scarce ``>=`` checks: how far a part is
+    over-qualified for this slot (0 = just meets it)."""
     total = 0.0
     for c in checks:
         if c.param in SCARCE and c.op is Op.GE and \
                 isinstance(c.actual, float | int) and isinstance(c.required_value, float | int) \
                 and c.required_value > 0 and c.actual > c.required_value:
-            total += math.log10(c.actual / c.required_value)
+            total += SCARCE[c.param] * math.log10(c.actual / c.required_value)
     return total
 
 
