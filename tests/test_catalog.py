@@ -103,6 +103,29 @@ def test_limits_with_a_range_have_min_at_or_below_max(cat):
                         assert q.value <= p.value, (spec.number, p.name)
 
 
+# Rows whose sheet states a PD at 25 °C above what its own Tj and RθJA allow; the catalog keeps
+# the sheet's figures and says so in the description (facts.md §4.2, onsemi J309/D, MPF102/D).
+PD_ABOVE_THERMAL_LIMIT = {"J310", "MPF102"}
+
+
+def test_free_air_dissipation_agrees_with_tj_and_rth_ja(cat):
+    # facts.md §5.3: PD(TA) = (Tj,max − TA) / RθJA (e.g. onsemi P2N2222A/D: 625 mW, 200 °C/W)
+    checked = 0
+    for spec in cat:
+        pd = [p for p in spec.values("pd") if p.at.get("ta") == 25]
+        tj, rth = spec.get("tj"), spec.get("rth_ja")
+        if not (pd and tj and rth):
+            continue
+        checked += 1
+        allowed = (tj.value - 25) / rth.value
+        if spec.number in PD_ABOVE_THERMAL_LIMIT:
+            assert pd[0].value > allowed and "derate" in spec.description
+        else:
+            # 10 %: vendors round their derating factors (2N5457: 310 mW, 2.82 mW/°C)
+            assert pd[0].value <= allowed * 1.1, spec.number
+    assert checked >= 20
+
+
 def test_content_covers_the_kinds_builders_use(cat):
     real = [s for s in cat if not is_template(s)]
     assert len(real) >= 150
