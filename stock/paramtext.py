@@ -26,7 +26,7 @@ and no conditions: ``vceo>=30V``, ``c=100n``, ``family=c0g``.
 from __future__ import annotations
 
 import re
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from decimal import Decimal
 
@@ -199,8 +199,8 @@ def _signed_pct(f: float) -> str:
     return ("-" if f < 0 or (f == 0 and str(f).startswith("-")) else "") + _pct(f)
 
 
-def _at(at: dict[str, float] | object) -> str:
-    items = dict(at)  # type: ignore[call-overload]
+def _at(at: Mapping[str, float]) -> str:
+    items = dict(at)
     if not items:
         return ""
     return "@" + ",".join(f"{k}={_num(v, CONDITIONS.get(k, ''))}" for k, v in items.items())
