@@ -8,7 +8,14 @@ pulling live in :mod:`stock.fit.combine`, :mod:`stock.fit.tuned`, :mod:`stock.fi
 """
 
 from stock.fit.caution import cautions
-from stock.fit.checks import Check, Verdict, check_one, check_part, pd_at
+from stock.fit.checks import (
+    Check,
+    Verdict,
+    check_one,
+    check_part,
+    pd_at,
+    render_requirement,
+)
 from stock.fit.dropin import DropIn, DropInVerdict, dropin, pin_mapping
 from stock.fit.engine import (
     JSON_VERSION,
@@ -38,6 +45,7 @@ __all__ = [
     "parse_role",
     "pd_at",
     "pin_mapping",
+    "render_requirement",
     "requirements_for",
     "resolve_value_slot",
     "slot_from_args",

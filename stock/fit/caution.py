@@ -52,10 +52,11 @@ def cautions(slot: Slot, candidate: PartSpec | None = None, *,
     if volts:
         out.append(HIGH_VOLTAGE.format(v=" and ".join(volts)))
     diss = c.dissipation
-    if diss is None and c.supply and c.current and slot.kind in (Kind.BJT, Kind.FET):
-        diss = c.supply * c.current
     if diss is not None and diss >= pol["caution_heat_w"]:
         out.append(HEAT.format(p=f"{diss:.3g} W"))
+    elif c.supply and c.current and slot.kind in (Kind.BJT, Kind.FET) and \
+            c.supply * c.current >= pol["caution_heat_w"]:
+        out.append(HEAT.format(p=f"up to {c.supply * c.current:.3g} W (supply × current)"))
     fam = candidate.family if candidate else (slot.part.family if slot.part else None)
     if slot.kind is Kind.CAPACITOR and fam in POLARISED_FAMILIES:
         out.append(POLARISED.format(fam=fam))

@@ -273,10 +273,17 @@ def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, Param | No
         first = (lambda ps: min(ps, key=lambda q: q.at.get(key, 0.0))) if usable else None
         return (first(g) if g and first else None, first(t) if t and first else None, note)
     near = [p for p in vals if key in p.at and abs(p.at[key] - want) <= 0.1 * abs(want)]
+    note = ""
+    if not near and req.param != "cv":
+        # not given at the same test condition: the worst case over the others, flagged
+        near = vals
+        note = f"(given at other test conditions than {at_text(req.at)[2:]})"
+    elif not near:
+        return None, None, f"no {req.param} given at {at_text(req.at)[2:]}"
     g = [p for p in near if p.bound is gbound]
     t = [p for p in near if p.bound in (Bound.TYP, Bound.NOM)]
-    note = "" if near else f"no {req.param} given at {at_text(req.at)[2:]}"
-    return (g[0] if g else None, t[0] if t else None, note)
+    best = (min if req.op is Op.GE else max)(g, key=lambda q: q.value) if g else None
+    return (best, t[0] if t else None, note)
 
 
 def _ambient_pd(part: PartSpec) -> Param | None:
@@ -470,6 +477,19 @@ def _check_pd(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> C
                   rendered=(_pd_required, (ta, required, prefer)))
 
 
+def _check_pd_free_air(part: PartSpec, req: Requirement) -> Check:
+    """A power rating against the candidate's free-air rating at 25 °C (never the rating
+    at a case temperature, which needs an ideal heat sink; facts.md §5.3)."""
+    actual, tj, r, t25 = _pd_numbers(part, 25.0)
+    if actual is None:
+        only_case = any(p.name == "pd" for p in part.params)
+        return _unknown(req, _render_req(req, "W"), "unknown: only a case-temperature PD is "
+                        "on record (it assumes a heat sink); check the free-air rating"
+                        if only_case else "")
+    return _judge(req, float(req.value), actual, None, True, {"ta": 25.0}, "W",
+                  prefer=req.prefer, actual_text=(_pd_text, (actual, 25.0, tj, r, t25)))
+
+
 def _pd_required(ta: float, required: float, prefer: float) -> str:
     return f"PD({ta:g} °C) >= {si(required, 'W')} (prefer >= {si(prefer, 'W')})"
 
@@ -635,6 +655,8 @@ def check_one(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> C
                      c.bound, c.at, c.margin, c.verdict, c.why, c.source, c.rule)
     if param == "pd" and req.rule == "pd_fraction_max":
         return _check_pd(part, req, slot, policy)
+    if param == "pd" and req.op is Op.GE:
+        return _check_pd_free_air(part, req)
     if param in ("tmax", "tmin"):
         return _check_temperature(part, req)
     if part.kind is Kind.CRYSTAL and param == "f":
@@ -664,3 +686,18 @@ def check_part(part: PartSpec, slot: Slot, reqs: list[Requirement], policy: Poli
                ) -> list[Check]:
     """Every requirement of a slot held against one candidate part."""
     return [check_one(part, req, slot, policy) for req in reqs]
+
+
+def render_requirement(req: Requirement) -> str:
+    """A requirement as a builder reads it: '>= 24 V (prefer >= 30 V)', '= npn'."""
+    if isinstance(req.value, str):
+        return f"{req.op.value} {req.value.replace('|', ' or ')}"
+    if req.param == "v_rated" and req.rule == "cap_v_fraction":
+        return f"rated for {si(float(req.value), 'V')} working, derated by dielectric"
+    if req.param == "pd" and req.rule == "pd_fraction_max":
+        return f"PD(TA) >= {si(float(req.value), 'W')} dissipated"
+    if req.param == "dielectric":
+        return f"class <= {float(req.value):g}"
+    if req.param == "overtone":
+        return f"= {float(req.value):g}"
+    return _render_req(req, _unit(req.param), float(req.value), req.prefer)

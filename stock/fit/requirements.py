@@ -202,12 +202,16 @@ def _from_part(part: PartSpec, slot: Slot, policy: Policy) -> list[Requirement]:
         g = part.low(param) if op is GE else part.high(param)
         if g is None:
             continue
+        at: tuple[tuple[str, float], ...] = ()
+        if param == "hfe" and g.param.at.get("ic"):
+            # hFE depends strongly on IC: compare at the called-for part's test current
+            at = (("ic", g.param.at["ic"]),)
         hard_here = hard or (param == "trr" and role in _FAST_DIODE_ROLES) or \
             (param == "rds_on" and role is Role.SWITCH) or \
             (param == "i_ripple" and role is Role.RESERVOIR)
         typ = "" if g.guaranteed else " (typical value: a guide only)"
         out.append(_p(param, op, g.value, f"{number}'s rating{typ}",
-                      warn_only=not (hard_here and g.guaranteed)))
+                      warn_only=not (hard_here and g.guaranteed), at=at))
     return out
 
 
@@ -362,7 +366,9 @@ _PRIORITY = {Source.USER: 0, Source.ROLE: 1, Source.PART: 2}
 
 
 def _key(r: Requirement) -> tuple[str, Op, tuple[tuple[str, float], ...]]:
-    return (r.param, r.op, r.at)
+    # a varicap's C is bounded at two reverse voltages; elsewhere the operating point does
+    # not make a second requirement (the role's VF at 1 mA replaces the part's at 5 mA)
+    return (r.param, r.op, r.at if r.param == "cv" else ())
 
 
 def requirements_for(slot: Slot, policy: Policy) -> list[Requirement]:
