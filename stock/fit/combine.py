@@ -70,7 +70,7 @@ _ADJUSTABLE = frozenset({"trimmer", "variable", "potentiometer"})
 _DEFAULTS: dict[str, float] = {
     "combo_tol_unknown": 0.20,  # IEC 60062: no tolerance band means ±20 % (facts.md §2.3)
     "combo_stacking_rss": 0.0,  # 0 = worst case, 1 = RSS
-    "combo_three_max_parts": 1000.0,
+    "combo_three_max_parts": 600.0,
     "r_p_fraction_max": 0.6,
     "cap_v_fraction_tantalum": 0.5,
     "cap_v_fraction_tantalum_polymer": 0.8,
