@@ -648,3 +648,14 @@ def _compare_with_row_reading(tmp_path: Path, rows, odd, data) -> None:
         with pytest.raises(ImportFileError) as err:
             _read(path, **kw)
         assert (err.value.row, err.value.column) == first_error
+
+
+@pytest.mark.parametrize("data", [b"", b"\xef\xbb\xbf", b"\r\n\r\n"])
+def test_empty_file(tmp_path: Path, data: bytes) -> None:
+    with pytest.raises(ImportFileError, match="no header row"):
+        _read(_csv(tmp_path, data))
+
+
+def test_header_only(tmp_path: Path) -> None:
+    table = _read(_csv(tmp_path, b"part,qty\r\n"), required=["number"])
+    assert (table.header_row, table.columns, table.rows) == (1, ["number", "qty"], [])

@@ -686,8 +686,8 @@ class _Reader:
             ):
                 transposed = list(zip(*block, strict=False))
                 columns = [list(map(strip, transposed[c.index])) for c in plan]
-                for col, cells in zip(plan, columns, strict=True):
-                    if not self._column_is_plain(col, cells, numbers, unescape):
+                for col, texts in zip(plan, columns, strict=True):
+                    if not self._column_is_plain(col, texts, numbers, unescape):
                         columns = None
                         break
             if self.progress is not None and first > start:
@@ -695,14 +695,14 @@ class _Reader:
             if columns is None:
                 yield from self._csv_rows(zip(numbers, block, strict=True))
                 continue
-            rows = list(zip(*columns, strict=True))
-            cells = map(dict, map(zip, repeat(names), rows))
+            rows: list[tuple[str, ...]] = list(zip(*columns, strict=True))
+            dicts: Iterator[dict[str, str]] = map(dict, map(zip, repeat(names), rows))
             if all(map(any, rows)):
-                yield from map(Row, numbers, cells)
+                yield from map(Row, numbers, dicts)
             else:  # skip blank rows
-                for number, values, row_cells in zip(numbers, rows, cells, strict=True):
+                for number, values, cells in zip(numbers, rows, dicts, strict=True):
                     if any(values):
-                        yield Row(number, row_cells)
+                        yield Row(number, cells)
 
     def _column_is_plain(
         self, col: _Column, cells: list[str], numbers: range, unescape: bool
@@ -876,6 +876,9 @@ def read_table(
     turned into a point when the whole file uses commas). With ``unescape`` a leading apostrophe
     is dropped from a cell and the rest taken literally. ``progress(done, total)`` is called with
     row numbers as reading goes on. Raises :class:`~stock.errors.ImportFileError`.
+
+    ``Table.columns`` lists the canonical columns found in the file; each ``Row.cells`` has a key
+    for every one of them (``''`` for an empty cell) and none for columns the file lacks.
     """
     reader = _reader(
         path,
