@@ -238,3 +238,24 @@ def test_random_kits_and_stores_never_overspend(slots, stock, copies):
         assert all(a.exact for a in sc.allocations)
     assert 0 <= rep.summaries[0].buildable <= copies
     assert (rep.summaries[0].buildable == copies) == rep.complete
+
+
+def test_same_kit_twice_is_refused(shelf):
+    kit = parse_kit(KIT)
+    with pytest.raises(QuantityError, match="kit t is given twice"):
+        check([(kit, 1), (kit, 2)], shelf, POLICY)
+
+
+def test_two_kits_share_the_drawers(shelf):
+    # Two kits in one check compete for the same MPSH10 drawer: 2 free, each kit's Q2
+    # wants 1 per copy → both served; slot keys and labels carry the kit names.
+    a = parse_kit(KIT)
+    b = parse_kit(KIT.replace('name = "t"', 'name = "u"'))
+    rep = check([(a, 1), (b, 1)], shelf, POLICY, catalog=_catalog().get)
+    q2 = [sc for sc in rep.slots if sc.slot.refs == ["Q2"]]
+    assert [sc.key for sc in q2] == ["t:Q2", "u:Q2"]
+    assert [[(x.part, x.qty) for x in sc.allocations] for sc in q2] == [[("MPSH10", 1)],
+                                                                        [("MPSH10", 1)]]
+    # R1-R4 in both: 8 of 10 resistors; C1 in both: 1 exact + 1 short → one kit short
+    assert sum(sc.short for sc in rep.slots if sc.slot.refs == ["C1"]) == 1
+    assert [s.buildable for s in rep.summaries] == [1, 0]  # later kit goes short first

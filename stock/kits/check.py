@@ -187,6 +187,11 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     if catalog is None:
         catalog = _default_catalog()
     several = len(kits) > 1
+    names = [kit.name for kit, _ in kits]
+    twice = sorted({n for n in names if names.count(n) > 1})
+    if twice:
+        raise QuantityError(f"kit {twice[0]} is given twice; give it once with the total "
+                            "number of copies")
     by_kind: dict[Kind, list[Stocked]] = {}
 
     def stock_of(kind: Kind) -> list[Stocked]:
@@ -199,6 +204,7 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     links = []
     places: dict[tuple[str, str], int] = {}
     report_notes: list[str] = []
+    seen_keys: set[str] = set()
     for kit, copies in kits:
         if kit.source == "bom":
             report_notes.append(f"{kit.name}: plain BOM, no roles or operating conditions; "
@@ -206,7 +212,11 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
         for slot in kit.slots:
             called, where = _resolve(slot, store, catalog)
             work = slot if called is slot.part else _with_part(slot, called)
-            sc = SlotCheck(kit.name, kit.slot_id(slot), slot, copies, slot.qty * copies,
+            key = kit.slot_id(slot)
+            if key in seen_keys:  # two ref-less slots of a BOM calling for the same text
+                key = f"{key}#{len(seen_keys)}"
+            seen_keys.add(key)
+            sc = SlotCheck(kit.name, key, slot, copies, slot.qty * copies,
                            called, _source_text(kit, work, called))
             cands = stock_of(slot.kind)
             ranked: list[Ranked] = []

@@ -37,7 +37,7 @@ from stock.kits.schema import validate
 from stock.kits.tomllines import Path as KeyPath
 from stock.kits.tomllines import line_index, line_of
 from stock.params import PARAMS
-from stock.parts import Param, PartSpec
+from stock.parts import Param, PartSpec, part_key
 from stock.slots import Conditions, Op, Requirement, Role, Slot, Source
 
 #: Units of the condition keys (stock.slots.Conditions fields).
@@ -112,8 +112,12 @@ class Kit:
     ties: dict[str, Tie] = field(default_factory=dict)
 
     def slot_id(self, slot: Slot) -> str:
-        """A slot's key across kits: ``"marsh-tx40:R3-R6"``."""
-        return f"{self.name}:{compress(slot.refs) if slot.refs else slot.calls_for}"
+        """A slot's key across kits: ``"marsh-tx40:R3-R6"``; without designators the part
+        called for (and its package): ``"kit:100n X7R 50V"``."""
+        if slot.refs:
+            return f"{self.name}:{compress(slot.refs)}"
+        pkg = f" [{slot.package}]" if slot.package else ""
+        return f"{self.name}:{slot.calls_for}{pkg}"
 
     def units(self) -> int:
         """Parts per copy of the kit."""
@@ -320,6 +324,14 @@ def parse_kit(text: str, file: str = "<kit>") -> Kit:
                                f"slot {i + 1}: {ref} is already in slot {owner[ref]}; list "
                                "each designator in one slot only")
             owner[ref] = i + 1
+        if not slot.refs:
+            same = next((j for j, o in enumerate(slots) if not o.refs
+                         and part_key(o.calls_for) == part_key(slot.calls_for)
+                         and o.package == slot.package), None)
+            if same is not None:
+                raise at.error(("slot", i), f"slot {i + 1} has no refs and calls for the same "
+                                            f"part as slot {same + 1}; merge their qty or "
+                                            "give refs")
         if slot.tie:
             ties.setdefault(slot.tie, Tie(slot.tie)).refs.extend(slot.refs or [slot.calls_for])
             tie_first.setdefault(slot.tie, i)
