@@ -258,3 +258,20 @@ def test_larger_store_is_sound_and_beats_or_ties_greedy():
     plan = solve(demands, supplies, links)
     assert check_plan(plan, demands, supplies, links) == []
     assert plan.cost <= greedy(demands, supplies, links).cost
+
+
+def test_docs_example_runs_as_written():
+    # docs/kits.md shows this example with its output; keep the two in step.
+    import re
+
+    text = (Path(__file__).parent.parent / "docs" / "kits.md").read_text(encoding="utf-8")
+    block = text.split("### Python API")[1].split("```python")[1].split("```")[0]
+    code = "\n".join(line for line in block.splitlines() if not line.startswith("plan."))
+    ns: dict = {}
+    exec(code, ns)  # noqa: S102 - our own documentation
+    plan = ns["plan"]
+    shown = dict(re.findall(r"^plan\.(\w+)\s+# (.*)$", block, flags=re.M))
+    assert repr(plan.short) == shown["short"]
+    assert repr(plan.notes) == shown["notes"].replace('"', "'")
+    assert [(a.demand, a.part, a.drawer, a.qty, a.exact) for a in plan.allocations] == [
+        ("tx:Q1", "2N2222A", "A1", 1, False), ("tx:Q2", "MPSH10", "B2", 1, True)]
