@@ -201,7 +201,6 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
 
     checks: list[SlotCheck] = []
     demands: list[Demand] = []
-    links = []
     places: dict[tuple[str, str], int] = {}
     report_notes: list[str] = []
     seen_keys: set[str] = set()
@@ -219,11 +218,9 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
             sc = SlotCheck(kit.name, key, slot, copies, slot.qty * copies,
                            called, _source_text(kit, work, called))
             cands = stock_of(slot.kind)
-            ranked: list[Ranked] = []
             for s in cands:
                 if _is_exact(work, called, s.part):
                     sc.exact.append(s)
-                    ranked.append(Ranked(s.part.number, exact=True, why="exact"))
             exact_keys = {part_key(s.part.number) for s in sc.exact}
             reqs = requirements_for(work, policy)
             user_family = any(r.param == "family" for r in slot.requirements)
@@ -240,10 +237,6 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
             else:
                 others = [s for s in cands if part_key(s.part.number) not in exact_keys]
                 sc.stand_ins = assess(work, others, policy, need=sc.need)
-                for i, a in enumerate(sc.stand_ins):
-                    ranked.append(Ranked(a.part, rank=i, warnings=a.warnings,
-                                         dropin=a.dropin.verdict.value == "drop-in",
-                                         why=f"stand-in #{i + 1}"))
             if called is None and user_family:
                 sc.notes.append(f"{slot.calls_for} is not in the store or the catalog: "
                                 "stand-ins are judged by the role and the kit's bounds only")
@@ -260,8 +253,30 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
                     if free > 0:
                         places[(s.part.number, drawer)] = free
             demands.append(Demand(sc.key, sc.need, len(demands), _label(kit, slot, several)))
-            links += costs_from_rank(sc.key, ranked)
             checks.append(sc)
+
+    # Re-rank each slot's stand-ins knowing how many other slots could use each part
+    # (the fit ranking's "demand"), so a part few others can use is spent first; then
+    # turn ranks into link costs (stock.plan's cost model).
+    from stock.fit.rank import rank
+
+    users: dict[str, int] = {}
+    for sc in checks:
+        for number in {part_key(x.part.number) for x in sc.exact} | \
+                {part_key(a.part) for a in sc.stand_ins}:
+            users[number] = users.get(number, 0) + 1
+    links = []
+    for sc in checks:
+        mine = {part_key(x.part.number) for x in sc.exact} | {part_key(a.part)
+                                                              for a in sc.stand_ins}
+        others_use = {k: users[k] - (1 if k in mine else 0) for k in users}
+        rank(sc.stand_ins, need=sc.need, ample=float(policy["rank_margin_ample"]),
+             demand=others_use)
+        ranked = [Ranked(x.part.number, exact=True, why="exact") for x in sc.exact]
+        ranked += [Ranked(a.part, rank=i, warnings=a.warnings,
+                          dropin=a.dropin.verdict.value == "drop-in", why=f"stand-in #{i + 1}")
+                   for i, a in enumerate(sc.stand_ins)]
+        links += costs_from_rank(sc.key, ranked)
 
     supplies = [Supply(p, d, f) for (p, d), f in places.items()]
     plan = solve(demands, supplies, add_scarcity(demands, supplies, links))
