@@ -151,10 +151,10 @@ def fit(
 
     store = open_db(db)
     policy = load_policy(load_config())
-    catalog = load_catalog()
 
     def resolve(number: str) -> Any:
-        return store.find_part(number) or catalog.get(number)
+        # the store first (the builder's own record), then the reference catalog
+        return store.find_part(number) or load_catalog().get(number)
 
     cond = Conditions(**{name: _value(text, name) for name, text in (
         ("supply", supply), ("freq", freq), ("current", current),
