@@ -10,7 +10,7 @@ from pathlib import Path
 
 import eseries as ref  # test-only independent check (PyPI "eseries")
 import pytest
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from stock.errors import NotationError
@@ -96,6 +96,7 @@ positive = st.floats(min_value=1e-13, max_value=1e13, allow_nan=False, allow_inf
 series_names = st.sampled_from(list(SERIES))
 
 
+@settings(deadline=None)  # no wall-clock limits in tests
 @given(positive, series_names)
 def test_nearest_agrees_with_the_eseries_package(x: float, name: str) -> None:
     # eseries.find_nearest works on a linear scale; ours on a log scale. Both must pick
@@ -110,6 +111,7 @@ def test_nearest_agrees_with_the_eseries_package(x: float, name: str) -> None:
         assert math.isclose(ours, theirs, rel_tol=1e-9)
 
 
+@settings(deadline=None)  # no wall-clock limits in tests
 @given(positive, series_names)
 def test_next_up_and_down_bracket_the_value(x: float, name: str) -> None:
     up, down = next_up(x, name), next_down(x, name)
@@ -119,6 +121,7 @@ def test_next_up_and_down_bracket_the_value(x: float, name: str) -> None:
     assert ratio <= 2.5 / int(name[1:]) + 1e-9  # at most two steps of the series apart
 
 
+@settings(deadline=None)  # no wall-clock limits in tests
 @given(positive, series_names)
 def test_series_of_reports_the_nearest_members(x: float, name: str) -> None:
     assert name in series_of(nearest(x, name))

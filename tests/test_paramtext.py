@@ -8,7 +8,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from stock.errors import NotationError
@@ -106,11 +106,13 @@ params = st.builds(Param, st.sampled_from(list(PARAMS)), st.sampled_from(list(Bo
                    conditions)
 
 
+@settings(deadline=None)  # no wall-clock limits in tests
 @given(st.lists(params, max_size=6))
 def test_render_params_round_trip(ps: list[Param]) -> None:
     assert parse_params(render_params(ps)) == ps
 
 
+@settings(deadline=None)  # no wall-clock limits in tests
 @given(st.lists(params, max_size=4))
 def test_render_params_is_stable(ps: list[Param]) -> None:
     text = render_params(ps)

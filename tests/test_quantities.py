@@ -10,7 +10,7 @@ from dataclasses import FrozenInstanceError
 from pathlib import Path
 
 import pytest
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 from quantiphy import Quantity  # test-only independent reader of SI notation
 
@@ -149,6 +149,7 @@ _prefixes = st.sampled_from(["", "f", "p", "n", "u", "µ", "m", "k", "M", "G", "
 _units = st.sampled_from(["", "Ω", "F", "H", "Hz", "V", "A", "W", "s"])
 
 
+@settings(deadline=None)  # no wall-clock limits in tests
 @given(_mantissas, _prefixes, _units, st.booleans())
 def test_generated_si_forms_agree_with_quantiphy(m, prefix: str, unit: str,
                                                  space: bool) -> None:
@@ -166,6 +167,7 @@ UNITS = ["Ω", "F", "H", "Hz", "V", "A", "W", "°C", "s", "S", "C", "dB", "°C/W
 finite = st.floats(allow_nan=False, allow_infinity=False)
 
 
+@settings(deadline=None)  # no wall-clock limits in tests
 @given(finite, st.sampled_from(UNITS), st.sampled_from(STYLES), st.integers(1, 9))
 def test_render_then_parse_within_the_rendered_precision(x: float, unit: str | None,
                                                          style: str, digits: int) -> None:
@@ -176,11 +178,13 @@ def test_render_then_parse_within_the_rendered_precision(x: float, unit: str | N
     assert abs(back - x) <= 0.5 * 10 ** (1 - digits) * abs(x) * (1 + 1e-9)
 
 
+@settings(deadline=None)  # no wall-clock limits in tests
 @given(finite, st.sampled_from(UNITS), st.sampled_from(STYLES))
 def test_render_with_all_digits_is_exact(x: float, unit: str | None, style: str) -> None:
     assert parse_value(render(x, unit, style=style, digits=17), unit).value == x
 
 
+@settings(deadline=None)  # no wall-clock limits in tests
 @given(st.floats(min_value=1e-15, max_value=1e12), st.sampled_from(["Ω", "F", "H"]))
 def test_builder_values_read_back_with_the_kind(x: float, unit: str) -> None:
     # what we print for a part must read back even where the kind turns on marking codes

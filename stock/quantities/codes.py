@@ -108,6 +108,9 @@ def rkm_or_none(text: str, unit: str | None) -> Value | None:
             written = unit
         elif len(rest) == 1 and (rest in TOLERANCE_LETTERS or rest == "P"):
             tol_letter = rest
+        elif len(rest) == 1 and rest.isupper():
+            raise fail(text, unit, f"{rest} is not an IEC 60062 tolerance letter "
+                                   f"({', '.join(TOLERANCE_LETTERS)})")
         else:
             return None
     if letter in "Rr" and written == "H" and unit is None:
