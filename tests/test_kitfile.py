@@ -94,7 +94,6 @@ def test_demo_kits_load():
         kit, warnings = load_any(path)
         assert warnings == [] and kit.source == "kit" and kit.slots
         names.add(kit.name)
-        text = path.read_text(encoding="utf-8")
     assert {"marsh-tx40", "marsh-dcrx40", "marsh-audio"} <= names
     tx = load_kit(ROOT / "seeds_demo" / "kits" / "marsh-tx40.toml")
     assert tx.conditions.freq == 7.030e6  # freq given: it wins over the band's edge
