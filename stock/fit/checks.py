@@ -552,7 +552,8 @@ def _check_temperature(part: PartSpec, req: Requirement) -> Check:
         return _unknown(req, rtext)
     value = rng[1] if req.param == "tmax" else rng[0]
     return _judge(req, float(req.value), value, None, True, _NO_AT, "°C", rendered=rtext,
-                  actual_text=f"{value:g} °C (from the {part.family.upper()} code, EIA-198)")
+                  actual_text=f"{value:g} °C (from the {(part.family or '').upper()} code, "
+                              "EIA-198)")
 
 
 _SENSE = {name: pdef.sense for name, pdef in PARAMS.items()}

@@ -227,28 +227,25 @@ def _from_role(slot: Slot, policy: Policy) -> list[Requirement]:
             lo, hi = policy["ft_ratio_min"], policy["ft_ratio_pref"]
             out.append(_r("ft", GE, lo * c.freq, f"fT ≥ {lo:g} × f (|hfe| ≈ fT/f at "
                           f"{si(c.freq, 'Hz')})", "ft_ratio_min", prefer=hi * c.freq))
-        if c.v_peak is not None or c.supply is not None:
-            if c.v_peak is not None:
-                out.append(_r(vpar, GE, c.v_peak, f"the peak voltage {si(c.v_peak, 'V')}",
-                              "v_margin_pref", prefer=c.v_peak * vmp))
-            elif role in (Role.PA_A, Role.PA_B, Role.PA_C):
-                k = policy["swing_class_abc"]
-                pk = k * c.supply  # type: ignore[operator]
-                pref = pk * vmp if role is Role.PA_A else \
-                    policy["swing_mismatch_pref"] * c.supply  # type: ignore[operator]
-                out.append(_r(vpar, GE, pk, f"tuned class {role.value[-1].upper()} swings to "
-                              f"{k:g} × {si(c.supply, 'V')} = {si(pk, 'V')}",  # type: ignore
-                              "swing_class_abc", prefer=pref))
-            elif role is Role.PA_E:
-                k = policy["swing_class_e"]
-                pk = k * c.supply  # type: ignore[operator]
-                out.append(_r(vpar, GE, pk, f"class E peaks at {k:g} × {si(c.supply, 'V')} = "
-                              f"{si(pk, 'V')} (Sokal 1975)", "swing_class_e",  # type: ignore
-                              prefer=pk * vmp))
-            else:
-                v = c.supply
-                out.append(_r(vpar, GE, v, f"the supply {si(v, 'V')}",  # type: ignore[arg-type]
-                              "v_margin_pref", prefer=v * vmp))  # type: ignore[operator]
+        vs = c.supply
+        if c.v_peak is not None:
+            out.append(_r(vpar, GE, c.v_peak, f"the peak voltage {si(c.v_peak, 'V')}",
+                          "v_margin_pref", prefer=c.v_peak * vmp))
+        elif vs is not None and role in (Role.PA_A, Role.PA_B, Role.PA_C):
+            k = policy["swing_class_abc"]
+            pk = k * vs
+            pref = pk * vmp if role is Role.PA_A else policy["swing_mismatch_pref"] * vs
+            out.append(_r(vpar, GE, pk, f"tuned class {role.value[-1].upper()} swings to "
+                          f"{k:g} × {si(vs, 'V')} = {si(pk, 'V')}", "swing_class_abc",
+                          prefer=pref))
+        elif vs is not None and role is Role.PA_E:
+            k = policy["swing_class_e"]
+            pk = k * vs
+            out.append(_r(vpar, GE, pk, f"class E peaks at {k:g} × {si(vs, 'V')} = "
+                          f"{si(pk, 'V')} (Sokal 1975)", "swing_class_e", prefer=pk * vmp))
+        elif vs is not None:
+            out.append(_r(vpar, GE, vs, f"the supply {si(vs, 'V')}", "v_margin_pref",
+                          prefer=vs * vmp))
         i = c.i_peak if c.i_peak is not None else c.current
         if i is not None:
             if role is Role.PA_E and c.i_peak is None:
@@ -327,9 +324,9 @@ def _from_role(slot: Slot, policy: Policy) -> list[Requirement]:
         p = c.dissipation
         how = ""
         if p is None and r:
-            if c.v_rms is not None or c.v_dc is not None:
-                v = c.v_rms if c.v_rms is not None else c.v_dc
-                p, how = v * v / r, f" (V²/R with {si(v, 'V')})"  # type: ignore[operator]
+            vr = c.v_rms if c.v_rms is not None else c.v_dc
+            if vr is not None:
+                p, how = vr * vr / r, f" (V²/R with {si(vr, 'V')})"
             elif c.current is not None:
                 p, how = c.current ** 2 * r, f" (I²R with {si(c.current, 'A')})"
         if p is not None:
