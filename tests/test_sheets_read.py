@@ -659,3 +659,51 @@ def test_empty_file(tmp_path: Path, data: bytes) -> None:
 def test_header_only(tmp_path: Path) -> None:
     table = _read(_csv(tmp_path, b"part,qty\r\n"), required=["number"])
     assert (table.header_row, table.columns, table.rows) == (1, ["number", "qty"], [])
+
+
+# --- XML entity expansion ("billion laughs") ----------------------------------------------------
+
+_LAUGHS = (
+    '<!DOCTYPE lolz [<!ENTITY lol "lol">'
+    + "".join(
+        f'<!ENTITY lol{i} "{("&lol" + (str(i - 1) if i > 1 else "") + ";") * 10}">'
+        for i in range(1, 10)
+    )
+    + "]>"
+)
+
+
+def _with_entities(tmp_path: Path, member: str) -> Path:
+    """A real workbook whose `member` part declares nested entities (1e9 'lol's if expanded)."""
+
+    def build(workbook, sheet) -> None:
+        sheet.write_row(0, 0, ["part", "value"])
+        sheet.write_row(1, 0, ["R1", "x"])
+        sheet.write_row(2, 0, ["R2", 1000])  # a number in a text column: styles get read
+
+    plain = _xlsx(tmp_path, build, "plain.xlsx")
+    path = tmp_path / "laughs.xlsx"
+    with zipfile.ZipFile(plain) as source, zipfile.ZipFile(path, "w") as target:
+        for info in source.infolist():
+            data = source.read(info.filename)
+            if info.filename == member:
+                head, rest = data.decode().split("?>", 1)
+                rest = rest.replace("<t>x</t>", "<t>&lol9;</t>")
+                data = (head + "?>" + _LAUGHS + rest).encode()
+            target.writestr(info, data)
+    return path
+
+
+@pytest.mark.parametrize("member", ["xl/sharedStrings.xml", "xl/styles.xml"])
+def test_entity_expansion_refused(tmp_path: Path, member: str) -> None:
+    path = _with_entities(tmp_path, member)
+    with pytest.raises(ImportFileError, match="save it again from a spreadsheet") as err:
+        _read(path, text_columns=["value"])
+    assert err.value.file == str(path)
+
+
+def test_openpyxl_guarded_by_defusedxml() -> None:
+    # openpyxl parses XML through defusedxml only when it is installed (openpyxl docs, security).
+    from openpyxl.xml import DEFUSEDXML
+
+    assert DEFUSEDXML is True

@@ -801,15 +801,35 @@ class _Reader:
 
     def _check_number_formats(self) -> None:
         """Refuse numbers in text columns that the sheet shows in scientific notation."""
+        import zipfile
+
+        from defusedxml import DefusedXmlException
+
         from stock.sheets._styles import (
             is_scientific_format,
             number_formats_of,
             scientific_style_ids,
         )
 
-        if not scientific_style_ids(self.source.path):
-            return  # no cell of the workbook can be shown in scientific notation
-        formats = number_formats_of(self.source.path, self.source.sheet, self.suspect_numbers)
+        try:
+            if not scientific_style_ids(self.source.path):
+                return  # no cell of the workbook can be shown in scientific notation
+            formats = number_formats_of(self.source.path, self.source.sheet, self.suspect_numbers)
+        except (
+            DefusedXmlException,
+            SyntaxError,
+            ValueError,
+            KeyError,
+            OSError,
+            zipfile.BadZipFile,
+        ) as exc:
+            # defusedxml refuses entity declarations (the XML "billion laughs" attack);
+            # ElementTree's ParseError is a SyntaxError. The workbook cannot be trusted.
+            raise ImportFileError(
+                f"cannot read the workbook's number formats ({type(exc).__name__}: {exc}); "
+                "save it again from a spreadsheet",
+                **self._where(),
+            ) from None
         for (row, column), fmt in sorted(formats.items()):
             if is_scientific_format(fmt):
                 header, text = self.suspect_numbers[(row, column)]
