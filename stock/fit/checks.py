@@ -328,9 +328,11 @@ def _pd_numbers(part: PartSpec, ta: float
                 r = p.value
     if r is None and pd25 and tj is not None and tj > t25:
         r = (tj - t25) / pd25
+    if pd25 is not None and ta <= t25:
+        # the stated rating holds up to its own ambient (some sheets state a PD, Tj and
+        # RθJA that do not quite agree; the rating is what they guarantee there)
+        return pd25, tj, r, t25
     if tj is None or r is None:
-        if pd25 is not None and ta <= t25:
-            return pd25, None, None, t25
         return None, tj, r, t25
     derated = (tj - ta) / r
     if pd25 is not None and pd25 < derated:
@@ -339,8 +341,8 @@ def _pd_numbers(part: PartSpec, ta: float
 
 
 def _pd_text(watts: float, ta: float, tj: float | None, r: float | None, t25: float) -> str:
-    if tj is None or r is None:
-        return f"{si(watts, 'W')} at {t25:g} °C"
+    if tj is None or r is None or ta <= t25:
+        return f"{si(watts, 'W')} at {t25:g} °C (rated)"
     return f"{si(watts, 'W')} at {ta:g} °C (Tj {tj:g} °C, RθJA {r:.3g} °C/W)"
 
 
