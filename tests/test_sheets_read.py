@@ -707,3 +707,23 @@ def test_openpyxl_guarded_by_defusedxml() -> None:
     from openpyxl.xml import DEFUSEDXML
 
     assert DEFUSEDXML is True
+
+
+@pytest.mark.parametrize("enabled", [True, False])
+def test_garbage_collector_state_restored(tmp_path: Path, enabled: bool) -> None:
+    # read_table pauses the cycle collector while it reads; it must leave it as it found it,
+    # also when the file is refused.
+    import gc
+
+    good = _csv(tmp_path, b"part,qty\r\nR1,1\r\n", "good.csv")
+    bad = _csv(tmp_path, b"part,qty\r\nR1,one\r\n", "bad.csv")
+    was = gc.isenabled()
+    try:
+        gc.enable() if enabled else gc.disable()
+        _read(good)
+        assert gc.isenabled() is enabled
+        with pytest.raises(ImportFileError):
+            _read(bad, numeric_columns=["qty"])
+        assert gc.isenabled() is enabled
+    finally:
+        gc.enable() if was else gc.disable()
