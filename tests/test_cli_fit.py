@@ -120,3 +120,20 @@ def test_errors(db: Path) -> None:
 def test_fit_is_documented() -> None:
     doc = (Path(__file__).parents[1] / "docs" / "fit.md").read_text(encoding="utf-8")
     assert "stock fit" in doc and "--explain" in doc and "--json" in doc
+
+
+def test_combinations_when_no_single_part_fits(file_store) -> None:  # type: ignore[no-untyped-def]
+    store, path = file_store
+    for value in ("4k7", "1k", "10k"):
+        store.save_and_receive(PartSpec(value, Kind.RESISTOR, "metal-film", params=parse_params(
+            f"r={value}; tol=±1%", Kind.RESISTOR)), "R1", 20)
+    r = run(path, "fit", "5k6 2%", "--kind", "resistor", "--role", "bias", "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert doc["candidates"] == []
+    combos = doc["combinations"]
+    assert combos and all(c["ok"] for c in combos)
+    # worst-case stacking (facts.md §5.4): every listed combination stays in 5k6 ±2 %
+    for c in combos:
+        assert 5600 * 0.98 <= c["low"] <= c["high"] <= 5600 * 1.02
+    assert "4k7" in combos[0]["parts"]

@@ -13,6 +13,7 @@ if TYPE_CHECKING:
     from stock.fit import Assessment
     from stock.slots import Slot
 
+_UNIT = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 _COND_UNITS = {"supply": "V", "freq": "Hz", "current": "A", "dissipation": "W",
                "ambient": "°C", "v_peak": "V", "v_rms": "V", "v_dc": "V", "i_peak": "A",
                "impedance": "Ω"}
@@ -111,6 +112,10 @@ def fit(
                                              "pin 1 first (EBC), if not the part's.")] = None,
     show_all: Annotated[bool, typer.Option("--all", help="Show failing candidates too, "
                                            "with the check that fails them.")] = False,
+    combine: Annotated[bool, typer.Option("--combine", help="For a resistor, capacitor or "
+                                          "inductor value: also list two- and three-part "
+                                          "combinations (listed anyway when no single "
+                                          "part fits).")] = False,
     explain: Annotated[str | None, typer.Option("--explain", metavar="PART",
                                                 help="Show every check for one "
                                                 "candidate.")] = None,
@@ -140,6 +145,8 @@ def fit(
         assess,
         assessment_json,
         cautions,
+        combination_json,
+        combinations_for,
         render_requirement,
         requirements_for,
         slot_from_args,
@@ -180,6 +187,9 @@ def fit(
             raise UnknownPart(f"{explain!r} is not among the candidates in stock for "
                               f"{calls_for}; check the number with 'stock find'")
     shown = ranked if explain else ranked[:limit]
+    combos: list[Any] = []
+    if not explain and (combine or not any(a.fitness.value != "fails" for a in ranked)):
+        combos = combinations_for(slot, pool, policy, need=qty)
     slot_cautions = cautions(slot, policy=policy)
     if json_out:
         emit_json({
@@ -191,6 +201,7 @@ def fit(
                               if c not in slot_cautions]}
                 for a in shown
             ],
+            "combinations": [combination_json(c) for c in combos],
             "cautions": slot_cautions,
         })
         return
@@ -215,5 +226,11 @@ def fit(
     table("candidates", ["#", "part", "verdict", "drop-in", "free", "drawers",
                          "min margin", "deciding check"], rows,
           justify={"#": "right", "free": "right", "min margin": "right"}, caption=caption)
+    if combos:
+        table("combinations", ["parts", "value", "worst case", "error", "ratings"],
+              [[c.describe(), si(c.nominal, _UNIT[slot.kind.value]),
+                f"{si(c.low, _UNIT[slot.kind.value])} … {si(c.high, _UNIT[slot.kind.value])}",
+                f"{c.error * 100:+.2f} %", "ok" if c.ok else "; ".join(c.checks)]
+               for c in combos])
     for text in slot_cautions:
         console().print(f"caution: {text}")

@@ -271,3 +271,49 @@ def slot_from_args(calls_for: str, *, kind: Kind | str | None = None,
     return Slot(refs=[], qty=1, calls_for=calls_for, kind=k, part=part, role=r,
                 conditions=conditions or Conditions(), requirements=reqs,
                 package=package, pinout=pinout.upper().replace("-", "") if pinout else None)
+
+
+def combinations_for(slot: Slot, pool: Sequence[Stocked], policy: Policy, *, need: int = 1,
+                     limit: int = 5) -> list[Any]:
+    """Two- or three-part combinations from ``pool`` that make a value slot's value.
+
+    For resistor, capacitor and inductor slots whose called-for part has a nominal value;
+    the window is the called-for tolerance (or the default for the kind, docs/rules.md).
+    In a frequency-determining position only the called-for dielectric family is combined.
+    Returns :class:`stock.fit.combine.Combination` records (empty for other slots).
+    """
+    from stock.fit.combine import find_combinations
+    from stock.fit.requirements import part_tolerance
+    from stock.slots import FREQUENCY_DETERMINING
+
+    vparam = {Kind.RESISTOR: "r", Kind.CAPACITOR: "c", Kind.INDUCTOR: "l"}.get(slot.kind)
+    if vparam is None or slot.part is None:
+        return []
+    target = slot.part.nominal(vparam)
+    if not target:
+        return []
+    tol = part_tolerance(slot.part)
+    if tol is None:
+        d = policy[{"r": "r_tol_default", "c": "c_tol_default", "l": "l_tol_default"}[vparam]]
+        tol = (-d, d)
+    c = slot.conditions
+    v_working = c.v_dc if c.v_dc is not None else c.supply
+    family = slot.part.family if slot.role in FREQUENCY_DETERMINING else None
+    return list(find_combinations(target, tol, slot.kind, pool, need=need,
+                                  v_working=v_working, power=c.dissipation, family=family,
+                                  limit=limit, policy=policy))
+
+
+def combination_json(c: Any) -> dict[str, Any]:
+    """One combination in the ``--json`` shape (docs/fit.md)."""
+    return {
+        "topology": c.topology.value,
+        "parts": [s.part.number for s in c.parts],
+        "text": c.describe(),
+        "nominal": _num(c.nominal),
+        "low": _num(c.low),
+        "high": _num(c.high),
+        "error": _num(c.error),
+        "ok": c.ok,
+        "notes": list(c.checks),
+    }
