@@ -75,9 +75,9 @@ def _csv_text(value: Any) -> str:
 
 def _check_shape(name: str, columns: Sequence[str], row: Sequence[object], number: int) -> None:
     if len(row) != len(columns):
+        where = f"sheet {name}, row {number}" if name else f"row {number}"
         raise ExportFileError(
-            f"sheet {name}, row {number}: {len(row)} values for {len(columns)} columns; "
-            "give one value per column"
+            f"{where}: {len(row)} values for {len(columns)} columns; give one value per column"
         )
 
 
@@ -256,6 +256,9 @@ def write_table(
     except OSError as exc:
         temp.unlink(missing_ok=True)
         raise ExportFileError(f"{path}: cannot write the file ({exc.strerror or exc})") from None
+    except ExportFileError as exc:
+        temp.unlink(missing_ok=True)
+        raise ExportFileError(f"{path}: {exc}") from None
     except BaseException:
         temp.unlink(missing_ok=True)
         raise
