@@ -133,3 +133,18 @@ def test_a_better_rating_never_worsens_the_verdict(vceo: float, factor: float) -
         return order[a.fitness.value]
 
     assert fitness(vceo * factor) <= fitness(vceo)
+
+
+@pytest.mark.parametrize(("text", "kind"), [
+    # IEC 60062 RKM letters and SI units decide the kind of a bare value
+    ("4k7", Kind.RESISTOR), ("2R2", Kind.RESISTOR), ("1M0", Kind.RESISTOR),
+    ("100n", Kind.CAPACITOR), ("2u2", Kind.CAPACITOR), ("47p X7R", Kind.CAPACITOR),
+    ("22uF", Kind.CAPACITOR), ("10uH", Kind.INDUCTOR), ("10MHz", Kind.CRYSTAL),
+])
+def test_kind_of_a_bare_value(text: str, kind: Kind) -> None:
+    assert slot_from_args(text).kind is kind
+
+
+def test_a_bare_number_needs_a_kind() -> None:
+    with pytest.raises(UnknownPart, match="--kind"):
+        slot_from_args("100")

@@ -117,7 +117,7 @@ _VALUE_PARAM = {Kind.RESISTOR: "r", Kind.CAPACITOR: "c", Kind.INDUCTOR: "l", Kin
 _SAFETY = frozenset({"X1", "X2", "X3", "Y1", "Y2", "Y3", "Y4"})
 
 
-def _parse(text: str, unit: str, kind: Kind | None = None) -> Any:
+def _parse(text: str, unit: str | None, kind: Kind | None = None) -> Any:
     from stock.quantities import parse_value
 
     return parse_value(text, unit, kind=kind)
@@ -191,15 +191,27 @@ def resolve_value_slot(text: str, kind: Kind) -> PartSpec:
                     attrs, params)
 
 
+_UNIT_KIND = {"Ω": Kind.RESISTOR, "F": Kind.CAPACITOR, "H": Kind.INDUCTOR, "Hz": Kind.CRYSTAL}
+
+
 def _guess_kind(text: str) -> Kind | None:
-    first = text.split()[0] if text.split() else ""
-    for kind in (Kind.RESISTOR, Kind.CAPACITOR, Kind.INDUCTOR, Kind.CRYSTAL):
-        try:
-            v = _parse(first, _VALUE_UNIT[kind])
-        except (NotationError, ValueError):
-            continue
-        if v.unit == _VALUE_UNIT[kind] or (kind is Kind.RESISTOR and v.unit in (None, "Ω")):
-            return kind
+    """The kind a bare value implies: its unit (4.7kΩ, 22uF, 10uH, 10MHz), else the RKM
+    letter (IEC 60062: R, K/k, M, G for resistance; p, n, u/µ for capacitance), else None."""
+    words = text.split()
+    if not words:
+        return None
+    first = words[0]
+    try:
+        v = _parse(first, None)
+    except (NotationError, ValueError):
+        return None
+    if v.unit in _UNIT_KIND:
+        return _UNIT_KIND[v.unit]
+    letters = {ch for ch in first if ch.isalpha()}
+    if letters & set("pnuµμ"):
+        return Kind.CAPACITOR
+    if letters & set("RKkMG"):
+        return Kind.RESISTOR
     return None
 
 
