@@ -277,3 +277,17 @@ def test_number_round_trip(tmp_path: Path, name: str, numbers: list[float]) -> N
         else:
             # XLSX shows 15 significant digits (spreadsheet precision), as read_table reports
             assert math.isclose(back, value, rel_tol=1e-14, abs_tol=1e-300)
+
+
+def test_xlsx_long_integer_keeps_its_digits(tmp_path: Path) -> None:
+    # A spreadsheet number keeps 15 significant digits (IEEE 754 double as displayed); an int
+    # longer than that is written as a string cell so no digit is lost.
+    import openpyxl
+
+    path = tmp_path / "long.xlsx"
+    write_table(path, ["code", "small"], [[123456789012345678, 10**15 - 1]])
+    sheet = openpyxl.load_workbook(path)["stock"]
+    assert (sheet["A2"].data_type, sheet["A2"].value) == ("s", "123456789012345678")
+    assert (sheet["B2"].data_type, sheet["B2"].value) == ("n", 10**15 - 1)
+    table = read_table(path, columns={"code": [], "small": []}, text_columns=["code", "small"])
+    assert table.rows[0].cells == {"code": "123456789012345678", "small": "999999999999999"}

@@ -33,6 +33,8 @@ XLSX_MAX_ROWS = 1_048_576
 XLSX_MAX_COLUMNS = 16_384
 XLSX_MAX_CELL_CHARS = 32_767
 XLSX_MAX_SHEET_NAME = 31
+#: Significant decimal digits a spreadsheet keeps of a number (IEEE 754 double as displayed).
+XLSX_DIGITS = 15
 _SHEET_NAME_FORBIDDEN = frozenset("[]:*?/\\")
 
 #: Column widths in characters, as a spreadsheet counts them (common practice: wide enough for
@@ -184,6 +186,10 @@ def _write_sheet(
             if isinstance(value, bool):
                 sheet.write_boolean(number, col, value, cell_format)
                 shown = 5
+            elif isinstance(value, int) and abs(value) >= 10**XLSX_DIGITS:
+                # A number cell would keep only 15 digits; a string cell keeps them all.
+                sheet.write_string(number, col, str(value), cell_format)
+                shown = len(str(value))
             elif isinstance(value, int | float):
                 sheet.write_number(number, col, value, cell_format)
                 shown = len(repr(value))
