@@ -727,3 +727,9 @@ def test_garbage_collector_state_restored(tmp_path: Path, enabled: bool) -> None
         assert gc.isenabled() is enabled
     finally:
         gc.enable() if was else gc.disable()
+
+
+def test_unescape_off_keeps_the_apostrophe(tmp_path: Path) -> None:
+    path = _csv(tmp_path, b"part,note\r\n'=1+1,'1E3\r\n")
+    assert _read(path).rows[0].cells == {"number": "=1+1", "note": "1E3"}
+    assert _read(path, unescape=False).rows[0].cells == {"number": "'=1+1", "note": "'1E3"}
