@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from enum import StrEnum
+from functools import lru_cache
 from typing import Any
 
 from stock.fit.text import at_text, frac, si
@@ -50,7 +51,7 @@ class Check:
     def __init__(self, param: str, required: str | None, required_value: float | str | None,
                  actual: float | str | None, actual_text: str | None, bound: Bound | None,
                  at: Mapping[str, float], margin: float | None, verdict: Verdict,
-                 why: str | None, source: Source, rule: str | None,
+                 why: Any, source: Source, rule: str | None,
                  lazy: tuple | None = None) -> None:
         # plain assignments: thousands of checks are built per query (read-only by
         # convention; the text fields are properties)
@@ -70,7 +71,13 @@ class Check:
         self.op: Op | None = lazy[0].op if lazy is not None else None
 
     def _render(self) -> None:
-        self._required, self._actual_text, self._why = _render_judged(*self._lazy)  # type: ignore
+        required, actual_text, why = _render_judged(*self._lazy)  # type: ignore[misc]
+        if self._required is None:
+            self._required = required
+        if self._actual_text is None:
+            self._actual_text = actual_text
+        if self._why is None:
+            self._why = why
         self._lazy = None
 
     @property
@@ -89,6 +96,8 @@ class Check:
     def why(self) -> str:
         if self._lazy is not None:
             self._render()
+        if isinstance(self._why, tuple):  # a deferred text: (function, args)
+            self._why = self._why[0](*self._why[1])
         return self._why  # type: ignore[return-value]
 
     def _tuple(self) -> tuple:
@@ -248,6 +257,11 @@ def _render_judged(req: Requirement, required: float, actual: float, bound: Boun
 
 # --- picking the candidate's value ---------------------------------------------------------
 
+@lru_cache(maxsize=256)
+def _other_conditions(at: tuple[tuple[str, float], ...]) -> str:
+    return f"(given at other test conditions than {at_text(at)[2:]})"
+
+
 def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, Param | None, str]:
     """The candidate's values of ``req.param`` at the requirement's operating point.
 
@@ -277,7 +291,7 @@ def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, Param | No
     if not near and req.param != "cv":
         # not given at the same test condition: the worst case over the others, flagged
         near = vals
-        note = f"(given at other test conditions than {at_text(req.at)[2:]})"
+        note = _other_conditions(req.at)
     elif not near:
         return None, None, f"no {req.param} given at {at_text(req.at)[2:]}"
     g = [p for p in near if p.bound is gbound]
@@ -613,7 +627,7 @@ def _check_numeric(part: PartSpec, req: Requirement) -> Check:
                        prefer=req.prefer)
         if check.verdict is not Verdict.FAIL or t is None:
             if note and check.verdict is Verdict.PASS:
-                return _replace_verdict(check, Verdict.WARN, f"{check.why} {note}")
+                return _replace_verdict(check, Verdict.WARN, (_why_with_note, (check, note)))
             return check
     assert t is not None
     typ_check = _judge(req, value, t.value, t.bound if show_bound else None, False, t.at, unit,
@@ -623,9 +637,14 @@ def _check_numeric(part: PartSpec, req: Requirement) -> Check:
     return typ_check
 
 
-def _replace_verdict(c: Check, verdict: Verdict, why: str) -> Check:
-    return Check(c.param, c.required, c.required_value, c.actual, c.actual_text, c.bound, c.at,
-                 c.margin, verdict, why, c.source, c.rule)
+def _replace_verdict(c: Check, verdict: Verdict, why: Any) -> Check:
+    """The same check with another verdict and why (texts stay deferred where they were)."""
+    return Check(c.param, c._required, c.required_value, c.actual, c._actual_text, c.bound,
+                 c.at, c.margin, verdict, why, c.source, c.rule, c._lazy)
+
+
+def _why_with_note(c: Check, note: str) -> str:
+    return f"{c.why} {note}"
 
 
 _SWING_RULES = frozenset({"swing_class_abc", "swing_class_e"})

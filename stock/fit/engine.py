@@ -7,6 +7,7 @@ by kind and family there first), a :class:`~stock.slots.Slot` and a
 
 from __future__ import annotations
 
+import gc
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from typing import Any
 
@@ -44,6 +45,22 @@ def assess(slot: Slot, candidates: Iterable[Stocked], policy: Policy, *, need: i
     elif called is None and (board_pkg or board_pins):
         called = PartSpec(slot.calls_for, slot.kind, None, board_pkg, board_pins)
     out: list[Assessment] = []
+    # The loop allocates small, acyclic objects by the hundred thousand; the cyclic
+    # garbage collector would rescan the whole heap (the candidate records) many times
+    # over for nothing, doubling the time. Reference counting frees them all.
+    gc_was_on = gc.isenabled()
+    gc.disable()
+    try:
+        _assess_into(out, slot, candidates, reqs, called, policy, include_failing)
+    finally:
+        if gc_was_on:
+            gc.enable()
+    return rank(out, need=need, ample=policy["rank_margin_ample"], demand=demand)
+
+
+def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked],
+                 reqs: list[Requirement], called: PartSpec | None, policy: Policy,
+                 include_failing: bool) -> None:
     for s in candidates:
         part = s.part
         if part.kind is not slot.kind:
@@ -65,7 +82,6 @@ def assess(slot: Slot, candidates: Iterable[Stocked], policy: Policy, *, need: i
         fit, warnings, smallest = fitness_of(checks)
         out.append(Assessment(s, checks, fit, dropin(called, part), smallest, warnings,
                               versatility=versatility(checks)))
-    return rank(out, need=need, ample=policy["rank_margin_ample"], demand=demand)
 
 
 def _num(v: Any) -> Any:

@@ -9,6 +9,7 @@ capabilities (fT, voltage), so the one UHF transistor is not spent on an audio s
 
 from __future__ import annotations
 
+import gc
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -96,6 +97,12 @@ def fitness_of(checks: list[Check]) -> tuple[Fitness, int, float | None]:
     return (Fitness.FITS_WITH_WARNINGS if warnings else Fitness.FITS), warnings, smallest
 
 
+def _failure_count(a: Assessment) -> int:
+    if a.fitness is not Fitness.FAILS:
+        return 0
+    return sum(1 for c in a.checks if c.verdict is Verdict.FAIL)
+
+
 def versatility(checks: list[Check]) -> float:
     """Weighted sum of log10(actual/required) over scarce ``>=`` checks: how far a part is
     over-qualified for this slot (0 = just meets it)."""
@@ -116,7 +123,7 @@ def sort_key(a: Assessment, need: int, ample: float) -> tuple:
     else:
         band = math.floor(min(a.smallest_margin, ample) * 10 + 1e-9) / 10
     short = 0 if a.stocked.free >= need else 1
-    return (fails, len(a.failures), a.warnings, -band, DROPIN_ORDER[a.dropin.verdict], short,
+    return (fails, _failure_count(a), a.warnings, -band, DROPIN_ORDER[a.dropin.verdict], short,
             a.demand, round(a.versatility, 2), a.stocked.to_buy, part_key(a.part))
 
 
@@ -127,7 +134,13 @@ def rank(assessments: list[Assessment], *, need: int = 1, ample: float = 0.5,
         folded = {part_key(k): v for k, v in demand.items()}
         for a in assessments:
             a.demand = folded.get(part_key(a.part), 0)
-    assessments.sort(key=lambda a: sort_key(a, need, ample))
+    gc_was_on = gc.isenabled()
+    gc.disable()  # many small acyclic keys: see stock.fit.engine.assess
+    try:
+        assessments.sort(key=lambda a: sort_key(a, need, ample))
+    finally:
+        if gc_was_on:
+            gc.enable()
     for i, a in enumerate(assessments, 1):
         a.rank = i
     return assessments
