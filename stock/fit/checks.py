@@ -467,13 +467,12 @@ def _check_cap_voltage(part: PartSpec, req: Requirement, policy: Policy) -> Chec
         prefer = working / policy["cap_v_fraction_class2"]
     rated = part.get("v_rated")
     r = Requirement(req.param, Op.GE, required, req.source,
-                    f"{fam or 'this dielectric'} at ≤ {frac(fraction)} of its rating "
-                    f"({rule_id}) for {si(working, 'V')} working", rule_id, req.warn_only)
-    rtext = _render_req(r, "V", required, prefer)
+                    f"{fam or 'this dielectric'} at ≤ {fraction * 100:g} % of its rating "
+                    f"({rule_id}) for {working:g} V working", rule_id, req.warn_only)
     if rated is None:
-        return _unknown(r, rtext)
+        return _unknown(r, _render_req(r, "V", required, prefer))
     return _judge(r, required, rated.value, None, True, _NO_AT, "V", prefer=prefer,
-                  rendered=rtext)
+                  rendered=(_render_req, (r, "V", required, prefer)))
 
 
 def _check_pd(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:

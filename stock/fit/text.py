@@ -1,32 +1,19 @@
-"""Short renderings of SI values for check lines ("40 V", "300 MHz", "4.7 kΩ", "±5 %").
-
-Kept local and cheap (no regex, no imports) because the fit engine renders a few strings
-for every candidate it checks.
-"""
+"""Short renderings of SI values for check lines ("40 V", "300 MHz", "4.7 kΩ", "±5 %")."""
 
 from __future__ import annotations
 
 from collections.abc import Mapping
 
-_PREFIXES = ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"),
-             (1e-9, "n"), (1e-12, "p"), (1e-15, "f"))
-
-# units that take SI prefixes; the rest are printed plainly
-_PREFIXED = frozenset({"V", "A", "W", "Hz", "F", "H", "Ω", "S", "s", "C", "V/s"})
-
 
 def si(value: float, unit: str = "") -> str:
-    """``value`` with an SI prefix and unit, 3 significant figures: 0.0047 F → '4.7 mF'."""
-    if unit == "" or unit not in _PREFIXED:
-        num = f"{value:.3g}"
-        return f"{num} {unit}".strip() if unit else num
-    mag = abs(value)
-    if mag == 0:
-        return f"0 {unit}"
-    for scale, prefix in _PREFIXES:
-        if mag >= scale * 0.9995:
-            return f"{value / scale:.3g} {prefix}{unit}"
-    return f"{value:.3g} {unit}"
+    """``value`` to 3 significant figures with an SI prefix and unit: '4.7 mF', '24 V'.
+
+    The notation is :func:`stock.quantities.render` (style ``si``); check texts are
+    rendered only when shown, so this costs nothing while ranking.
+    """
+    from stock.quantities import render
+
+    return render(float(f"{value:.3g}"), unit or None, style="si")
 
 
 def frac(value: float) -> str:
