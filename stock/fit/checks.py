@@ -284,8 +284,11 @@ def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, Param | No
                 "VF is given only at lower currents than the working point"
         g = [p for p in usable if p.bound is gbound]
         t = [p for p in usable if p.bound in (Bound.TYP, Bound.NOM)]
-        first = (lambda ps: min(ps, key=lambda q: q.at.get(key, 0.0))) if usable else None
-        return (first(g) if g and first else None, first(t) if t and first else None, note)
+
+        def nearest(ps: list[Param]) -> Param | None:
+            return min(ps, key=lambda q: q.at.get(key, 0.0)) if ps else None
+
+        return nearest(g), nearest(t), note
     near = [p for p in vals if key in p.at and abs(p.at[key] - want) <= 0.1 * abs(want)]
     note = ""
     if not near and req.param != "cv":
@@ -313,7 +316,9 @@ def pd_at(part: PartSpec, ta: float) -> tuple[float | None, str]:
     """PD(TA) = (Tj,max − TA)/RθJA, capped at the 25 °C rating (facts.md §5.3).
 
     RθJA is taken from the record, else derived from PD(25 °C) and Tj,max the way
-    datasheets state the derating line. Returns (watts or None, how it was found).
+    datasheets state the derating line. Up to the rating's own ambient (25 °C) the stated
+    free-air rating holds; a rating at a case temperature is never used. Returns (watts or
+    None, how it was found).
     """
     watts, tj, r, t25 = _pd_numbers(part, ta)
     if watts is None:
