@@ -148,3 +148,16 @@ def test_kind_of_a_bare_value(text: str, kind: Kind) -> None:
 def test_a_bare_number_needs_a_kind() -> None:
     with pytest.raises(UnknownPart, match="--kind"):
         slot_from_args("100")
+
+
+@pytest.mark.parametrize(("marking", "role", "wanted"), [
+    # facts.md §3.4: a dual-rated X1/Y2 part in a line-to-earth position is held as Y2,
+    # across the line as X1
+    ("X1/Y2", Role.MAINS_Y, "Y2"), ("X1/Y2", Role.MAINS_X, "X1"), ("Y1", Role.MAINS_X, "Y1"),
+])
+def test_safety_class_of_a_dual_rated_called_for_part(marking: str, role: Role,
+                                                      wanted: str) -> None:
+    part = resolve_value_slot(f"4n7 {marking} 300VAC", Kind.CAPACITOR)
+    slot = Slot(["C1"], 1, part.number, Kind.CAPACITOR, part, role, Conditions(v_rms=230.0))
+    [req] = [r for r in requirements_for(slot, POLICY) if r.param == "safety"]
+    assert req.value == wanted

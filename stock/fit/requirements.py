@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import math
 
-from stock.fit.checks import DIELECTRIC_RANGE
+from stock.fit.checks import DIELECTRIC_RANGE, _ambient_pd
 from stock.fit.text import frac, si
 from stock.kinds import CAPACITOR_CLASS, POLARISED_FAMILIES, Bound, Kind
 from stock.parts import PartSpec
@@ -68,6 +68,17 @@ def _p(param: str, op: Op, value: float | str, why: str, **kw: object) -> Requir
 def _r(param: str, op: Op, value: float | str, why: str, rule: str, **kw: object
        ) -> Requirement:
     return Requirement(param, op, value, Source.ROLE, why, rule, **kw)  # type: ignore[arg-type]
+
+
+def safety_class(attr: str, role: Role) -> str:
+    """The IEC 60384-14 class a position needs from a part's marking (``X1/Y2``): the Y
+    class in a line-to-earth position, the X class across the line, else the first."""
+    classes = [c.strip().upper() for c in attr.replace(",", "/").split("/") if c.strip()]
+    letter = "Y" if role is Role.MAINS_Y else "X" if role is Role.MAINS_X else None
+    for c in classes:
+        if letter and c.startswith(letter):
+            return c
+    return classes[0] if classes else attr.strip().upper()
 
 
 def part_tolerance(part: PartSpec) -> tuple[float, float] | None:
@@ -157,17 +168,19 @@ def _from_part(part: PartSpec, slot: Slot, policy: Policy) -> list[Requirement]:
                           warn_only=role in (Role.BYPASS, Role.DECOUPLING, Role.RESERVOIR)))
         safety = part.attrs.get("safety")
         if safety:
-            out.append(_p("safety", EQ, safety.split("/")[0].strip().upper(),
+            out.append(_p("safety", EQ, safety_class(safety, role),
                           "IEC 60384-14: same or better class"))
         rng = DIELECTRIC_RANGE.get(fam or "")
         tmax = part.get("tmax")
         tmin = part.get("tmin")
-        if tmax is not None or rng:
-            out.append(_p("tmax", GE, tmax.value if tmax else rng[1],  # type: ignore[index]
-                          "the temperature range must cover the original's (facts.md §3.3)"))
-        if tmin is not None or rng:
-            out.append(_p("tmin", LE, tmin.value if tmin else rng[0],  # type: ignore[index]
-                          "the temperature range must cover the original's (facts.md §3.3)"))
+        t_hi = tmax.value if tmax is not None else rng[1] if rng else None
+        t_lo = tmin.value if tmin is not None else rng[0] if rng else None
+        if t_hi is not None:
+            out.append(_p("tmax", GE, t_hi, "the temperature range must cover the original's "
+                          "(facts.md §3.3)"))
+        if t_lo is not None:
+            out.append(_p("tmin", LE, t_lo, "the temperature range must cover the original's "
+                          "(facts.md §3.3)"))
 
     if kind is Kind.CRYSTAL:
         f = part.nominal("f")
@@ -185,8 +198,6 @@ def _from_part(part: PartSpec, slot: Slot, policy: Policy) -> list[Requirement]:
         if kind is Kind.DIODE and param in ("cv_ratio", "rs", "q") and part.family != "varicap":
             continue
         if param == "pd":
-            from stock.fit.checks import _ambient_pd
-
             p = _ambient_pd(part)
             if p is not None:
                 out.append(_p("pd", GE, p.value, f"{number}'s free-air power rating"))
@@ -302,7 +313,7 @@ def _from_role(slot: Slot, policy: Policy) -> list[Requirement]:
                           warn_only=True))
         if role in _MAINS:
             called = part.attrs.get("safety") if part else None
-            wanted = (called.split("/")[0].strip().upper() if called else
+            wanted = (safety_class(called, role) if called else
                       "X2" if role is Role.MAINS_X else "Y2")
             out.append(_r("safety", EQ, wanted, "IEC 60384-14: same or better class, never a "
                           "non-safety part", "caution_v_ac"))
