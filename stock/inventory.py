@@ -8,8 +8,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 from stock.errors import StockError
-from stock.kinds import Bound, Kind, normalise_family, parse_kind
-from stock.params import PARAMS
+from stock.kinds import Kind, normalise_family, parse_kind
 from stock.parts import Origin, Param, PartSpec
 
 #: The parameter that holds a passive part's value, by kind.
@@ -50,7 +49,6 @@ def build_spec(number: str, *, kind: str | Kind | None = None, family: str | Non
     part named by its value (``4k7``, ``100n``) gets its value parameter from the name.
     """
     from stock.paramtext import parse_params
-    from stock.quantities import parse_value
 
     k = parse_kind(kind) if isinstance(kind, str) else kind
     base = existing
@@ -76,17 +74,19 @@ def build_spec(number: str, *, kind: str | Kind | None = None, family: str | Non
                          "or use another number")
     user = parse_params(list(params), base.kind) if params else []
     if base.kind in VALUE_PARAM and base.get(VALUE_PARAM[base.kind][0]) is None:
-        name, unit = VALUE_PARAM[base.kind]
-        if not any(p.name == name for p in user):
-            try:
-                v = parse_value(number.split()[0], unit, kind=base.kind)
-            except StockError:
-                v = None
-            if v is not None:
-                user.append(Param(name, PARAMS[name].bound, v.value))
-                if v.tol is not None and not any(p.name == "tol" for p in user):
-                    user += [Param("tol", Bound.MIN, v.tol[0]),
-                             Param("tol", Bound.MAX, v.tol[1])]
+        # a passive named by its value ("4k7", "100n C0G 50V"): read the name as a kit
+        # slot would, so the two agree on what "470" means (470 Ω, not an SMD code)
+        from stock.kits.kitfile import called_part
+
+        try:
+            named = called_part(base.kind, number)
+        except StockError:
+            named = None
+        if named is not None:
+            typed = {(p.name, p.bound) for p in user}
+            user = [p for p in named.params if (p.name, p.bound) not in typed] + user
+            base.family = base.family or named.family
+            base.attrs = {**named.attrs, **base.attrs}
     spec = base.with_params(user)
     if family:
         spec.family = normalise_family(spec.kind, family)

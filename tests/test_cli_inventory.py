@@ -145,3 +145,20 @@ def test_params_lists_the_vocabulary(db):
 def test_since_must_be_a_date(db):
     r = run(db, "log", "--since", "last week")
     assert r.code == 1 and "2026-11-01" in r.err
+
+
+def test_a_bare_resistor_value_is_ohms_not_an_smd_code(db):
+    # builders write "470" for 470 Ω on a through-hole resistor; the 3-digit SMD code
+    # reading (47 × 10^0 = 47 Ω, facts.md §2.5) applies only to marked SMD parts
+    r = run(db, "add", "470", "--kind", "resistor", "--qty", "5", "-d", "R1", "--json")
+    ps = {(p["name"], p["bound"]): p["value"] for p in r.json()["part"]["params"]}
+    assert ps[("r", "nom")] == 470.0
+
+
+def test_a_value_part_name_carries_family_and_rating(db):
+    r = run(db, "add", "100n C0G 50V", "--kind", "capacitor", "--qty", "20", "-d", "C1",
+            "--json")
+    part = r.json()["part"]
+    ps = {(p["name"], p["bound"]): p["value"] for p in part["params"]}
+    assert part["family"] == "c0g"
+    assert ps[("c", "nom")] == pytest.approx(100e-9) and ps[("v_rated", "max")] == 50.0
