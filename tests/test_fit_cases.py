@@ -73,3 +73,25 @@ def test_case(case: dict[str, Any]) -> None:
     assert a.deciding is not None and a.deciding.param == case["deciding"], lines
     if "dropin" in case:
         assert a.dropin.verdict.value == case["dropin"], a.dropin.text
+
+
+@pytest.mark.parametrize("case", CASES, ids=[c["id"] for c in CASES])
+def test_screen_drops_only_failing_candidates(case: dict[str, Any]) -> None:
+    # a store query may drop parts by the screen bounds: each such part must fail anyway
+    from stock.fit import requirements_for, screen
+    from stock.slots import Op
+
+    slot, cand = build(case)
+    policy = load_policy({})
+    dropped = False
+    for r in screen(requirements_for(slot, policy)):
+        if r.param == "family":
+            dropped |= cand.family is not None and cand.family not in str(r.value).split("|")
+            continue
+        have = [p.value for p in cand.values(r.param)]
+        if have and not any((v >= r.value) if r.op is Op.GE else (v <= r.value)
+                            for v in have):
+            dropped = True
+    if dropped:
+        [a] = assess(slot, [Stocked(cand, free=10)], policy, include_failing=True)
+        assert a.fitness is Fitness.FAILS

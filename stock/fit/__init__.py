@@ -28,7 +28,7 @@ from stock.fit.engine import (
     slot_from_args,
 )
 from stock.fit.rank import Assessment, Fitness
-from stock.fit.requirements import requirements_for
+from stock.fit.requirements import requirements_for, screen
 
 __all__ = [
     "JSON_VERSION",
@@ -52,5 +52,6 @@ __all__ = [
     "render_requirement",
     "requirements_for",
     "resolve_value_slot",
+    "screen",
     "slot_from_args",
 ]

@@ -399,3 +399,32 @@ def requirements_for(slot: Slot, policy: Policy) -> list[Requirement]:
         k = _key(r)
         best[k] = min(best.get(k, 9), _PRIORITY[r.source])
     return [r for r in every if _PRIORITY[r.source] == best[_key(r)]]
+
+
+def screen(reqs: list[Requirement]) -> list[Requirement]:
+    """The requirements a store query may use to drop candidates before :func:`assess`.
+
+    Only hard bounds on ratings (a single guaranteed figure: VCEO, IC, VDS, VRRM, Isat …)
+    and the family equality qualify: a part whose rating misses one of them fails for sure.
+    A query must still keep parts that lack the parameter (they are "unknown", a warning,
+    not a failure). Characteristics, derated limits (PD at TA, a capacitor's voltage by
+    dielectric) and bounds at an operating point are left to the checks.
+    """
+    from stock.params import PARAMS, Sense
+
+    out = []
+    for r in reqs:
+        if r.warn_only or r.at:
+            continue
+        if r.param == "family" and r.op is EQ:
+            out.append(r)
+            continue
+        pdef = PARAMS.get(r.param)
+        if pdef is None or pdef.sense is not Sense.RATING or r.op is EQ or \
+                isinstance(r.value, str) or r.param == "pd" or \
+                (r.param == "v_rated" and r.rule == "cap_v_fraction") or \
+                (r.param == "vceo" and r.rule in ("swing_class_abc", "swing_class_e")):
+            # (an RF transistor's VCER may cover a swing its VCEO does not: a warning)
+            continue
+        out.append(r)
+    return out
