@@ -116,3 +116,33 @@ def test_json_shape_is_stable() -> None:
     ft = next(c for c in doc["checks"] if c["param"] == "ft")
     assert ft["bound"] == "min" and ft["at"] == {"ic": 0.02, "vce": 20.0}
     assert ft["rule"] == "ft_ratio_min" and ft["source"] == "role"
+
+
+def test_ranking_does_not_depend_on_input_order() -> None:
+    import random
+
+    from hypothesis import given, settings
+    from hypothesis import strategies as st
+
+    pool = [Stocked(npn(f"N{i}", f"vceo={v}V; ic={ic}mA; pd=625mW@ta=25°C; ft>={ft}MHz; "
+                             "tj=150°C", pins=pins), free)
+            for i, (v, ic, ft, pins, free) in enumerate([
+                (40, 600, 300, "EBC", 5), (25, 50, 650, "BEC", 3), (45, 100, 150, "CBE", 20),
+                (12, 600, 300, "EBC", 9), (60, 800, 200, "ECB", 1), (30, 400, 500, "EBC", 2)])]
+    called = npn("PN2222A", PN2222A)
+    slot = Slot(["Q1"], 1, "PN2222A", Kind.BJT, called, Role.RF_AMP,
+                Conditions(supply=12.0, freq=30e6, current=0.02))
+    expected = [a.part for a in assess(slot, pool, POLICY, include_failing=True)]
+
+    @settings(max_examples=25)
+    @given(st.randoms(use_true_random=False))
+    def check(rnd: random.Random) -> None:
+        shuffled = list(pool)
+        rnd.shuffle(shuffled)
+        got = assess(slot, shuffled, POLICY, include_failing=True)
+        assert [a.part for a in got] == expected
+        assert [a.rank for a in got] == list(range(1, len(pool) + 1))
+        fails = [a.fitness is Fitness.FAILS for a in got]
+        assert fails == sorted(fails)  # failing candidates last
+
+    check()
