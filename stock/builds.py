@@ -267,7 +267,8 @@ def reserve(store: Store, kit: Kit, copies: int = 1, *, name: str | None = None,
     if report.plan.short and not allow_short:
         units = sum(report.plan.short.values())
         buildable = report.summaries[0].buildable
-        fewer = f"reserve {buildable} copies, " if buildable else ""
+        fewer = (f"reserve {buildable} cop{'y' if buildable == 1 else 'ies'}, "
+                 if buildable else "")
         raise BuildError(f"{kit.name}: {units} units short for {copies} copies (the free stock "
                          f"builds {buildable}); {fewer}buy the rest ('stock check' lists them) "
                          "or add --allow-short to hold what there is")
