@@ -55,7 +55,8 @@ def cautions(slot: Slot, candidate: PartSpec | None = None, *,
     if diss is not None and diss >= pol["caution_heat_w"]:
         out.append(HEAT.format(p=f"{diss:.3g} W"))
     elif c.supply and c.current and slot.kind in (Kind.BJT, Kind.FET) and \
-            c.supply * c.current >= pol["caution_heat_w"]:
+            slot.role is not Role.SWITCH and c.supply * c.current >= pol["caution_heat_w"]:
+        # a linear stage can dissipate up to its DC input; a saturated switch far less
         out.append(HEAT.format(p=f"up to {c.supply * c.current:.3g} W (supply × current)"))
     fam = candidate.family if candidate else (slot.part.family if slot.part else None)
     if slot.kind is Kind.CAPACITOR and fam in POLARISED_FAMILIES:

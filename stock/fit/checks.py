@@ -262,18 +262,21 @@ def _other_conditions(at: tuple[tuple[str, float], ...]) -> str:
     return f"(given at other test conditions than {at_text(at)[2:]})"
 
 
-def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, Param | None, str]:
+def _pick_at(part: PartSpec, req: Requirement
+             ) -> tuple[Param | None, Param | None, str, bool, bool]:
     """The candidate's values of ``req.param`` at the requirement's operating point.
 
-    Returns (guaranteed, typical, note). For VF at a forward current: a value at the same
-    or a higher current bounds VF at the working current (VF rises with IF), the nearest
-    such current is used. For other parameters (a varicap's C at a reverse voltage): a
-    value within 10 % of that condition.
+    Returns (guaranteed, typical, note, a pass proves it, a failure proves it). For VF at
+    a forward current: a guaranteed maximum at the same or a higher current bounds VF at
+    the working current (VF rises with IF), so it proves a pass; it proves a failure only
+    when given at (about) the working current. For other parameters (hFE at IC, a
+    varicap's C at VR): a value within 10 % of that condition proves either way; values
+    at other conditions only hint (a warning).
     """
     key, want = req.at[0]
     vals = part.values(req.param)
     if not vals:
-        return None, None, ""
+        return None, None, "", True, True
     gbound = Bound.MIN if req.op is Op.GE else Bound.MAX
     if req.param == "vf" and key == "if":
         usable = [p for p in vals if key in p.at and p.at[key] >= want * (1 - 1e-9)]
@@ -288,19 +291,30 @@ def _pick_at(part: PartSpec, req: Requirement) -> tuple[Param | None, Param | No
         def nearest(ps: list[Param]) -> Param | None:
             return min(ps, key=lambda q: q.at.get(key, 0.0)) if ps else None
 
-        return nearest(g), nearest(t), note
+        best = nearest(g)
+        fail_proves = best is not None and best.at.get(key, want) <= want * 1.1
+        if best is not None and not fail_proves and not note:
+            note = _higher_current(key, best.at.get(key, want), want)
+        return best, nearest(t), note, True, fail_proves
     near = [p for p in vals if key in p.at and abs(p.at[key] - want) <= 0.1 * abs(want)]
-    note = ""
     if not near and req.param != "cv":
         # not given at the same test condition: the worst case over the others, flagged
-        near = vals
-        note = _other_conditions(req.at)
-    elif not near:
-        return None, None, f"no {req.param} given at {at_text(req.at)[2:]}"
+        g = [p for p in vals if p.bound is gbound]
+        t = [p for p in vals if p.bound in (Bound.TYP, Bound.NOM)]
+        best = (min if req.op is Op.GE else max)(g, key=lambda q: q.value) if g else None
+        return best, (t[0] if t else None), _other_conditions(req.at), False, False
+    if not near:
+        return None, None, f"no {req.param} given at {at_text(req.at)[2:]}", True, True
     g = [p for p in near if p.bound is gbound]
     t = [p for p in near if p.bound in (Bound.TYP, Bound.NOM)]
     best = (min if req.op is Op.GE else max)(g, key=lambda q: q.value) if g else None
-    return (best, t[0] if t else None, note)
+    return best, (t[0] if t else None), "", True, True
+
+
+@lru_cache(maxsize=256)
+def _higher_current(key: str, given: float, want: float) -> str:
+    return (f"(guaranteed only at {key.upper()} {si(given, 'A')}, above the working "
+            f"{si(want, 'A')}: lower there, but how much lower is not given)")
 
 
 def _ambient_pd(part: PartSpec) -> Param | None:
@@ -613,12 +627,17 @@ def _select(part: PartSpec, name: str, op: Op) -> tuple[Param | None, Param | No
 
 
 def _check_numeric(part: PartSpec, req: Requirement) -> Check:
-    """A numeric bound: held against the guaranteed limit; a typical value only warns."""
+    """A numeric bound: held against the guaranteed limit; a typical value only warns.
+
+    A limit given at other test conditions than the requirement's proves less: a pass or
+    a failure it cannot prove is a warning that says so.
+    """
     unit = _unit(req.param)
     value = float(req.value)
     note = ""
+    pass_proves = fail_proves = True
     if req.at:
-        g, t, note = _pick_at(part, req)
+        g, t, note, pass_proves, fail_proves = _pick_at(part, req)
     else:
         g, t = _select(part, req.param, req.op)
     if g is None and t is None:
@@ -630,7 +649,8 @@ def _check_numeric(part: PartSpec, req: Requirement) -> Check:
         check = _judge(req, value, g.value, g.bound if show_bound else None, True, g.at, unit,
                        prefer=req.prefer)
         if check.verdict is not Verdict.FAIL or t is None:
-            if note and check.verdict is Verdict.PASS:
+            if note and ((check.verdict is Verdict.PASS and not pass_proves) or
+                         (check.verdict is Verdict.FAIL and not fail_proves)):
                 return _replace_verdict(check, Verdict.WARN, (_why_with_note, (check, note)))
             return check
     assert t is not None
