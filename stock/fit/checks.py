@@ -413,7 +413,7 @@ def _check_safety(part: PartSpec, req: Requirement) -> Check:
                      req.source, req.rule)
     return Check("safety", rtext, wanted, has, has, None, _NO_AT, None, Verdict.FAIL,
                  f"{has} may not replace {wanted}: same or better class only "
-                 "(IEC 60384-14, facts.md §3.4)", req.source, req.rule)
+                 "(IEC 60384-14)", req.source, req.rule)
 
 
 def _check_dielectric(part: PartSpec, req: Requirement) -> Check:

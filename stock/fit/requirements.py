@@ -176,11 +176,9 @@ def _from_part(part: PartSpec, slot: Slot, policy: Policy) -> list[Requirement]:
         t_hi = tmax.value if tmax is not None else rng[1] if rng else None
         t_lo = tmin.value if tmin is not None else rng[0] if rng else None
         if t_hi is not None:
-            out.append(_p("tmax", GE, t_hi, "the temperature range must cover the original's "
-                          "(facts.md §3.3)"))
+            out.append(_p("tmax", GE, t_hi, "the temperature range must cover the original's"))
         if t_lo is not None:
-            out.append(_p("tmin", LE, t_lo, "the temperature range must cover the original's "
-                          "(facts.md §3.3)"))
+            out.append(_p("tmin", LE, t_lo, "the temperature range must cover the original's"))
 
     if kind is Kind.CRYSTAL:
         f = part.nominal("f")
