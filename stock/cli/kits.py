@@ -83,7 +83,9 @@ def _margin(m: float | None) -> str:
 
 
 def _where(pairs: list[tuple[str, int]]) -> str:
-    return ", ".join(f"{d} ×{q}" for d, q in pairs)
+    from stock.builds import drawer_order
+
+    return ", ".join(f"{d} ×{q}" for d, q in sorted(pairs, key=lambda p: drawer_order(p[0])))
 
 
 def slot_result(sc: SlotCheck) -> tuple[str, list[str]]:
