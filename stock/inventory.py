@@ -6,10 +6,15 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from functools import lru_cache
+from typing import TYPE_CHECKING
 
 from stock.errors import StockError
 from stock.kinds import Kind, normalise_family, parse_kind
 from stock.parts import Origin, Param, PartSpec
+
+if TYPE_CHECKING:
+    from stock.catalog import Catalog
 
 #: The parameter that holds a passive part's value, by kind.
 VALUE_PARAM = {Kind.RESISTOR: ("r", "Ω"), Kind.CAPACITOR: ("c", "F"), Kind.INDUCTOR: ("l", "H"),
@@ -26,12 +31,12 @@ class Received:
     recorded: bool = True  # False: the idempotency key had been used before
 
 
-def _catalog_spec(number: str, kind: Kind | None, family: str | None) -> PartSpec | None:
-    try:
+def _catalog_spec(number: str, kind: Kind | None, family: str | None,
+                  cat: Catalog | None = None) -> PartSpec | None:
+    if cat is None:
         from stock.catalog import load_catalog
-    except ModuleNotFoundError:  # pragma: no cover - the catalog ships with the package
-        return None
-    cat = load_catalog()
+
+        cat = load_catalog()
     spec = cat.get(number)
     if spec is None and kind is not None and family:
         spec = cat.template(kind, family, number)
@@ -41,21 +46,19 @@ def _catalog_spec(number: str, kind: Kind | None, family: str | None) -> PartSpe
 def build_spec(number: str, *, kind: str | Kind | None = None, family: str | None = None,
                package: str | None = None, pinout: str | None = None,
                description: str = "", params: Sequence[str] = (),
-               existing: PartSpec | None = None, use_catalog: bool = True
-               ) -> tuple[PartSpec, list[str]]:
+               existing: PartSpec | None = None, use_catalog: bool = True,
+               catalog: Catalog | None = None) -> tuple[PartSpec, list[str]]:
     """The record for ``number``: existing or catalog values, then what the user typed.
 
     Returns the spec and the names of parameters that came from the catalog. A passive
     part named by its value (``4k7``, ``100n``) gets its value parameter from the name.
     """
-    from stock.paramtext import parse_params
-
     k = parse_kind(kind) if isinstance(kind, str) else kind
     base = existing
     filled: list[str] = []
     if base is None and use_catalog:
         fam = normalise_family(k, family) if (k and family) else None
-        base = _catalog_spec(number, k, fam)
+        base = _catalog_spec(number, k, fam, catalog)
         if base is not None:
             base = PartSpec(number, base.kind, base.family, base.package, base.pinout,
                             base.description, dict(base.attrs),
@@ -72,7 +75,7 @@ def build_spec(number: str, *, kind: str | Kind | None = None, family: str | Non
     if k is not None and k != base.kind:
         raise StockError(f"{number} is a {base.kind.value}, not a {k.value}; drop --kind "
                          "or use another number")
-    user = parse_params(list(params), base.kind) if params else []
+    user = list(_parse_params(tuple(params), base.kind)) if params else []
     if base.kind in VALUE_PARAM and base.get(VALUE_PARAM[base.kind][0]) is None:
         # a passive named by its value ("4k7", "100n C0G 50V"): read the name as a kit
         # slot would, so the two agree on what "470" means (470 Ω, not an SMD code)
@@ -95,6 +98,14 @@ def build_spec(number: str, *, kind: str | Kind | None = None, family: str | Non
     spec.description = description or spec.description
     overridden = {p.name for p in user}
     return spec, [n for n in filled if n not in overridden]
+
+
+@lru_cache(maxsize=4096)
+def _parse_params(texts: tuple[str, ...], kind: Kind) -> tuple[Param, ...]:
+    """Parameter texts parsed once: stock lists repeat the same few strings many times."""
+    from stock.paramtext import parse_params
+
+    return tuple(parse_params(list(texts), kind))
 
 
 def add(store, number: str, qty: int, drawer: str, *, ref: str = "", note: str = "",

@@ -6,6 +6,7 @@ These are the words used everywhere: code, CLI, docs, files and output.
 from __future__ import annotations
 
 from enum import StrEnum
+from functools import lru_cache
 
 
 class Kind(StrEnum):
@@ -133,6 +134,7 @@ def parse_kind(text: str) -> Kind:
         raise ValueError(f"unknown kind {text!r}; use one of: {choices}") from None
 
 
+@lru_cache(maxsize=1024)
 def normalise_family(kind: Kind, text: str | None) -> str | None:
     """Fold a family spelling (``NP0``, ``nmos``) to our name; ValueError if unknown."""
     if text is None or not text.strip():

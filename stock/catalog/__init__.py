@@ -162,9 +162,18 @@ class Catalog:
         """The passive templates of ``kind`` and ``family``, in file order."""
         fam = normalise_family(kind, family) if (kind is not None and family) else (
             _fold_family(family) if family else None)
-        return [_copy(e.spec) for e in sorted(self._entries.values(), key=lambda e: e.order)
-                if is_template(e.spec) and (kind is None or e.spec.kind == kind)
-                and (fam is None or e.spec.family == fam)]
+        # indexed once per catalog: an import asks this for every row of a stock list
+        index = self.__dict__.get("_template_index")
+        if index is None:
+            index = {None: [e.spec for e in sorted(self._entries.values(), key=lambda e: e.order)
+                            if is_template(e.spec)]}
+            for t in index[None]:
+                index.setdefault((t.kind, t.family), []).append(t)
+            self.__dict__["_template_index"] = index
+        if kind is not None and fam is not None:
+            return [_copy(t) for t in index.get((kind, fam), [])]
+        return [_copy(t) for t in index[None]
+                if (kind is None or t.kind == kind) and (fam is None or t.family == fam)]
 
     def template(self, kind: Kind, family: str | None, hint: str = "") -> PartSpec | None:
         """The figures a passive of ``kind``/``family`` takes from its template, or None.
@@ -178,9 +187,12 @@ class Catalog:
         Without a rating the lowest-rated template is taken: the conservative choice. A
         safety-class template (``X2-275VAC``) is used only when the hint names its class.
         """
+        found = self.templates(kind, family)
+        if not found:  # most kinds have no templates: answer before reading the hint
+            return None
         want = _read_hint(hint)
         # a safety class (X2, Y2) is a claim about the part: only when the builder names it
-        cands = [t for t in self.templates(kind, family)
+        cands = [t for t in found
                  if not t.attrs.get("safety") or t.attrs["safety"].upper() in want.words]
         if not cands:
             return None

@@ -9,10 +9,11 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 from contextlib import contextmanager
+from operator import itemgetter
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
-from sqlalchemy import create_engine, event, text
+from sqlalchemy import Table, create_engine, event, text
 from sqlalchemy.engine import Engine
 from sqlalchemy.orm import Session
 
@@ -136,3 +137,35 @@ def session_scope(engine: Engine, *, write: bool = False) -> Iterator[Session]:
     with Session(bind=bind, expire_on_commit=False) as session:
         with session.begin():
             yield session
+
+
+def bulk_insert(session: Session, table: Table, rows: list[dict[str, Any]]) -> None:
+    """Insert many rows with one DBAPI ``executemany``, skipping per-row Core overhead.
+
+    The bulk paths (imports, restores) use this: measured here, Core inserts cost 3–4×
+    a raw executemany (design notes). Every column must be given (no Python-side
+    defaults run); values still pass through each column type's bind processor.
+    """
+    if not rows:
+        return
+    conn = session.connection()
+    dialect = conn.dialect
+    cols = list(rows[0])
+    quote = dialect.identifier_preparer.quote
+    mark = "?" if dialect.paramstyle == "qmark" else "%s"
+    sql = (f"INSERT INTO {quote(table.name)} ({', '.join(quote(c) for c in cols)}) "
+           f"VALUES ({', '.join([mark] * len(cols))})")
+    get = itemgetter(*cols)
+    data = [get(r) for r in rows] if len(cols) > 1 else [(get(r),) for r in rows]
+    procs = [(i, p) for i, c in enumerate(cols)
+             if (p := table.c[c].type._cached_bind_processor(dialect)) is not None]
+    if procs:
+        data = [tuple(row) for row in data]
+        fixed = []
+        for row in data:
+            vals = list(row)
+            for i, p in procs:
+                vals[i] = p(vals[i])
+            fixed.append(tuple(vals))
+        data = fixed
+    conn.exec_driver_sql(sql, data)

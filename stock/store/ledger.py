@@ -16,7 +16,8 @@ from sqlalchemy import insert, select, update
 from sqlalchemy.orm import Session
 
 from stock.errors import InsufficientStock, QuantityError
-from stock.store.models import Balance, Movement
+from stock.store.db import bulk_insert
+from stock.store.models import Balance, Movement, utcnow
 
 
 class Account(StrEnum):
@@ -155,9 +156,10 @@ def post_many(session: Session, entries: list[tuple[int, int, int]], *, reason: 
         raise QuantityError("bulk receipts take positive quantities only")
     if not entries:
         return 0
-    session.execute(insert(Movement), [
+    now = utcnow()
+    bulk_insert(session, Movement.__table__, [
         dict(part_id=p, drawer_id=d, account=Account.ON_HAND.value, qty=q, reason=reason.value,
-             ref=ref, note="", key=None, build_id=None) for p, d, q in entries])
+             ref=ref, note="", at=now, key=None, build_id=None) for p, d, q in entries])
     totals: dict[tuple[int, int], int] = {}
     for p, d, q in entries:
         totals[(p, d)] = totals.get((p, d), 0) + q
@@ -169,8 +171,7 @@ def post_many(session: Session, entries: list[tuple[int, int, int]], *, reason: 
             .where(Balance.part_id.in_(part_ids[i : i + 500]))))
     new = [dict(part_id=p, drawer_id=d, on_hand=q, reserved=0)
            for (p, d), q in totals.items() if (p, d) not in existing]
-    if new:
-        session.execute(insert(Balance), new)
+    bulk_insert(session, Balance.__table__, new)
     for (p, d), q in totals.items():
         if (p, d) in existing:
             session.execute(update(Balance)

@@ -6,12 +6,13 @@ import json
 from collections import defaultdict
 from collections.abc import Iterable, Sequence
 
-from sqlalchemy import delete, insert, select
+from sqlalchemy import delete, func, insert, select
 from sqlalchemy.orm import Session
 
 from stock.kinds import Bound, Kind
 from stock.parts import Origin, Param, PartSpec, part_key
-from stock.store.models import ParamRow, Part
+from stock.store.db import bulk_insert
+from stock.store.models import ParamRow, Part, utcnow
 
 
 def at_text(at: dict[str, float] | None) -> str:
@@ -103,22 +104,29 @@ def insert_parts_bulk(session: Session, specs: Sequence[PartSpec]) -> dict[str, 
     """Insert many new parts with their parameters; return {part key: id}."""
     if not specs:
         return {}
-    session.execute(insert(Part), [
-        dict(number=s.number.strip(), key=part_key(s.number), kind=s.kind.value, family=s.family,
+    now = utcnow()
+    keys = [part_key(s.number) for s in specs]
+    before = session.execute(select(func.coalesce(func.max(Part.id), 0))).scalar_one()
+    bulk_insert(session, Part.__table__, [
+        dict(number=s.number.strip(), key=k, kind=s.kind.value, family=s.family,
              package=s.package, pinout=s.pinout, description=s.description,
-             attrs=json.dumps(s.attrs, sort_keys=True), source=s.source) for s in specs])
-    ids = ids_by_key(session, [part_key(s.number) for s in specs])
-    rows = [dict(part_id=ids[part_key(s.number)], name=p.name, bound=Bound(p.bound).value,
-                 value=float(p.value), at=at_text(dict(p.at)), origin=Origin(p.origin).value)
-            for s in specs for p in s.params]
-    if rows:
-        session.execute(insert(ParamRow), rows)
-    return ids
+             attrs=json.dumps(s.attrs, sort_keys=True) if s.attrs else "{}", source=s.source,
+             created_at=now)
+        for s, k in zip(specs, keys, strict=True)])
+    # our rows are the ones above the old maximum id (we hold the write lock)
+    ids = {k: int(i) for k, i in session.execute(
+        select(Part.key, Part.id).where(Part.id > before))}
+    rows = [dict(part_id=ids[k], name=p.name, bound=Bound(p.bound).value,
+                 value=float(p.value), at=at_text(dict(p.at)) if p.at else "",
+                 origin=Origin(p.origin).value)
+            for s, k in zip(specs, keys, strict=True) for p in s.params]
+    bulk_insert(session, ParamRow.__table__, rows)
+    return {k: ids[k] for k in keys}
 
 
 def ids_by_key(session: Session, keys: Sequence[str]) -> dict[str, int]:
     out: dict[str, int] = {}
-    for i in range(0, len(keys), 500):
+    for i in range(0, len(keys), 900):
         out.update((k, int(v)) for k, v in session.execute(
-            select(Part.key, Part.id).where(Part.key.in_(keys[i : i + 500]))))
+            select(Part.key, Part.id).where(Part.key.in_(keys[i : i + 900]))))
     return out

@@ -1,0 +1,154 @@
+"""Store benchmarks (issue: the store):
+
+1. ``find`` for a typical parametric query on 100,000 parts / 200,000 movements, against
+   a hand-written sqlite3 query of the same filter (target ≤ 2×);
+2. importing a 50,000-row CSV, against pandas.read_csv plus a raw sqlite3 executemany of
+   the same rows into the same tables (target ≤ 2×);
+3. ``stock --help`` start-up, against ``python -c "import typer"`` (target ≤ 1.5×).
+
+Run: python -m benchmarks.bench_store   (about a minute on a 2-core machine)
+"""
+
+from __future__ import annotations
+
+import json
+import random
+import sqlite3
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+from benchmarks.common import median_time, report
+from benchmarks.generate import generate_store
+
+FIND_SQL = """
+SELECT p.id, p.number, SUM(b.on_hand - b.reserved) AS free
+FROM parts p JOIN balances b ON b.part_id = p.id
+WHERE p.kind = 'bjt' AND p.family = 'npn'
+  AND EXISTS (SELECT 1 FROM params q WHERE q.part_id = p.id AND q.name = 'vceo'
+              AND q.bound IN ('min', 'max', 'nom') AND q.value >= 30)
+  AND EXISTS (SELECT 1 FROM params q WHERE q.part_id = p.id AND q.name = 'ft'
+              AND q.bound IN ('min', 'nom') AND q.value >= 100e6)
+GROUP BY p.id
+HAVING free > 0
+ORDER BY (SELECT MIN(q.value) FROM params q WHERE q.part_id = p.id AND q.name = 'vceo'
+          AND q.bound IN ('min', 'max', 'nom')), free DESC, p.key
+LIMIT 50
+"""
+
+
+def bench_find(tmp: Path) -> bool:
+    from stock.kinds import Kind
+    from stock.paramtext import parse_criterion
+    from stock.store.api import Store
+
+    path = tmp / "big.db"
+    t0 = time.perf_counter()
+    generate_store(path)
+    print(f"generated 100,000 parts / 200,000 movements in {time.perf_counter() - t0:.1f} s")
+    store = Store(f"sqlite:///{path}")
+    crit = [parse_criterion("vceo>=30V", Kind.BJT), parse_criterion("ft>=100MHz", Kind.BJT)]
+    found = store.find(Kind.BJT, "npn", crit)
+    raw = sqlite3.connect(path)
+    rows = raw.execute(FIND_SQL).fetchall()
+    assert [r[1] for r in rows] == [s.part.number for s in found], "find and SQL disagree"
+    ours = median_time(lambda: store.find(Kind.BJT, "npn", crit))
+    base = median_time(lambda: raw.execute(FIND_SQL).fetchall())
+    return report("find bjt npn vceo>=30V ft>=100MHz (50 rows)", ours, base, 2.0, "sqlite3")
+
+
+def _csv(path: Path, n: int) -> None:
+    rnd = random.Random(3)
+    with path.open("w", encoding="utf-8") as fh:
+        fh.write("part,qty,drawer,kind,family,params\n")
+        for i in range(n):
+            v = rnd.choice((15, 20, 30, 40, 60, 100))
+            fh.write(f"IMP-{i:06d},{rnd.randint(1, 500)},D{i % 60},bjt,npn,"
+                     f"vceo={v}V; ic=100mA\n")
+
+
+def _baseline_import(csv_path: Path, db_path: Path) -> None:
+    """pandas.read_csv, then raw executemany of the same rows into the same tables."""
+    import pandas as pd
+
+    df = pd.read_csv(csv_path)
+    con = sqlite3.connect(db_path)
+    con.execute("BEGIN")
+    drawers = sorted(set(df["drawer"]))
+    con.executemany("INSERT INTO drawers(label, note) VALUES (?, '')", [(d,) for d in drawers])
+    did = dict(con.execute("SELECT label, id FROM drawers"))
+    con.executemany(
+        "INSERT INTO parts(number, key, kind, family, description, attrs, created_at) "
+        "VALUES (?, ?, 'bjt', 'npn', '', '{}', '2026-01-01')",
+        [(n, n) for n in df["part"]])
+    pid = dict(con.execute("SELECT key, id FROM parts"))
+    params = []
+    for n, ps in zip(df["part"], df["params"], strict=True):
+        for item in ps.split(";"):
+            name, _, val = item.strip().partition("=")
+            params.append((pid[n], name, float(val.rstrip("VmA")), ))
+    con.executemany("INSERT INTO params(part_id, name, bound, value, at, origin) "
+                    "VALUES (?, ?, 'max', ?, '', 'import')", params)
+    rows = [(pid[n], did[d], int(q)) for n, d, q in zip(df["part"], df["drawer"], df["qty"],
+                                                           strict=True)]
+    con.executemany("INSERT INTO movements(part_id, drawer_id, account, qty, reason, ref, note, at)"
+                    " VALUES (?, ?, 'on_hand', ?, 'import', '', '', '2026-01-01')", rows)
+    con.executemany("INSERT INTO balances(part_id, drawer_id, on_hand, reserved) "
+                    "VALUES (?, ?, ?, 0)", rows)
+    con.commit()
+    con.close()
+
+
+def bench_import(tmp: Path) -> bool:
+    from stock.store.api import Store
+    from stock.transfer import import_stock
+
+    csv_path = tmp / "stock50k.csv"
+    _csv(csv_path, 50_000)
+    n = [0]
+
+    def fresh() -> Path:
+        n[0] += 1
+        p = tmp / f"imp{n[0]}.db"
+        Store(f"sqlite:///{p}").close()  # migrated, empty
+        return p
+
+    def ours() -> None:
+        store = Store(f"sqlite:///{fresh()}")
+        res = import_stock(store, csv_path)
+        assert res.units > 0
+        store.close()
+
+    def base() -> None:
+        _baseline_import(csv_path, fresh())
+
+    t_ours = median_time(ours, repeat=3)
+    t_base = median_time(base, repeat=3)
+    return report("import 50,000-row CSV (all-or-nothing)", t_ours, t_base, 2.0,
+                  "read_csv+executemany")
+
+
+def bench_help() -> bool:
+    exe = Path(sys.executable).with_name("stock")
+
+    def ours() -> None:
+        subprocess.run([str(exe), "--help"], check=True, capture_output=True)
+
+    def base() -> None:
+        subprocess.run([sys.executable, "-c", "import typer"], check=True, capture_output=True)
+
+    return report("stock --help start-up", median_time(ours, 11), median_time(base, 11), 1.5,
+                  "import typer")
+
+
+def main() -> None:
+    with tempfile.TemporaryDirectory() as d:
+        tmp = Path(d)
+        results = {"help": bench_help(), "import": bench_import(tmp), "find": bench_find(tmp)}
+    print(json.dumps(results))
+
+
+if __name__ == "__main__":
+    main()
