@@ -60,8 +60,13 @@ def build_spec(number: str, *, kind: str | Kind | None = None, family: str | Non
         fam = normalise_family(k, family) if (k and family) else None
         base = _catalog_spec(number, k, fam, catalog)
         if base is not None:
+            from stock.catalog import is_template
+
+            # a template's own text ("add a value of this family ...") is not this part's
+            desc = (f"{base.family} {base.kind.value}; figures from catalog template "
+                    f"{base.number}") if is_template(base) else base.description
             base = PartSpec(number, base.kind, base.family, base.package, base.pinout,
-                            base.description, dict(base.attrs),
+                            desc, dict(base.attrs),
                             [Param(p.name, p.bound, p.value, p.at, Origin.CATALOG)
                              for p in base.params], base.source)
             filled = sorted({p.name for p in base.params})

@@ -4,8 +4,6 @@ Each command module registers its commands on :data:`app`. Heavy libraries are
 imported inside the commands that use them.
 """
 
-from __future__ import annotations
-
 import typer
 
 from stock.cli.common import StockGroup

@@ -1,7 +1,5 @@
 """The ``catalog`` command: search the reference catalog, or show one row with its source."""
 
-from __future__ import annotations
-
 from typing import Annotated
 
 import typer

@@ -3,8 +3,6 @@
 Kept free of heavy imports: ``stock --help`` must not pay for SQLAlchemy or pandas.
 """
 
-from __future__ import annotations
-
 import json
 import sys
 from typing import TYPE_CHECKING, Annotated, Any
@@ -49,7 +47,7 @@ class StockGroup(TyperGroup):
             raise
 
 
-def open_db(db: str | None) -> Store:
+def open_db(db: str | None) -> "Store":
     from stock.store import open_store
 
     return open_store(db)

@@ -1,7 +1,5 @@
 """The ``fit`` command: what in the drawers will do for a slot, and why."""
 
-from __future__ import annotations
-
 from typing import TYPE_CHECKING, Annotated, Any
 
 import typer
@@ -27,7 +25,7 @@ def _value(text: str | None, name: str) -> float | None:
     return parse_value(text, _COND_UNITS[name]).value
 
 
-def _slot_json(slot: Slot, reqs: list[Any]) -> dict[str, Any]:
+def _slot_json(slot: "Slot", reqs: list[Any]) -> dict[str, Any]:
     cond = {k: v for k, v in vars(slot.conditions).items() if v is not None}
     return {
         "calls_for": slot.calls_for,
@@ -48,14 +46,14 @@ def _margin(m: float | None) -> str:
     return "" if m is None else f"{m * 100:+.0f} %"
 
 
-def _deciding(a: Assessment) -> str:
+def _deciding(a: "Assessment") -> str:
     c = a.deciding
     if c is None:
         return ""
     return f"{c.param}: {c.why}"
 
 
-def _explain(a: Assessment, cautions: list[str]) -> None:
+def _explain(a: "Assessment", cautions: list[str]) -> None:
     out = console()
     p = a.stocked.part
     out.print(f"[bold]{p.number}[/bold] — {a.fitness.value}; {a.dropin.verdict.value}: "

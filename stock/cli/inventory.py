@@ -1,8 +1,6 @@
 """Commands for the drawers: init, add, show, drawers, drawer, find, move, take, count,
 log, verify, params."""
 
-from __future__ import annotations
-
 from typing import Annotated
 
 import typer

@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from stock.parts import Param, PartSpec, Stocked
+if TYPE_CHECKING:  # the start-up of every command pays for what is imported here
+    from stock.parts import Param, PartSpec, Stocked
 
 
 def _fmt(value: float, name: str) -> str:

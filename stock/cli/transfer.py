@@ -1,7 +1,5 @@
 """Commands that move whole files: import a stock list, export and restore the store."""
 
-from __future__ import annotations
-
 from pathlib import Path
 from typing import Annotated
 
