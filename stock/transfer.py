@@ -156,13 +156,15 @@ def _import_stock(store, path: str | Path, *, mapping: Mapping[str, str] | None,
         return res
     with store.write() as s:
         ids = dict(known)
-        ids.update(repo.insert_parts_bulk(s, new_specs))
+        new_ids = repo.insert_parts_bulk(s, new_specs)
+        ids.update(new_ids)
         for key, spec in updates.items():
             repo.update_part(s, ids[key], spec)
         drawer_ids, created = _drawers(s, sorted({d for _, d, _ in entries}))
         res.drawers_created = created
         ledger.post_many(s, [(ids[k], drawer_ids[d], q) for k, d, q in entries],
-                         reason=Reason.IMPORT, ref=f"import {Path(path).name}")
+                         reason=Reason.IMPORT, ref=f"import {Path(path).name}",
+                         new_parts=set(new_ids.values()))
     return res
 
 

@@ -160,12 +160,19 @@ def bulk_insert(session: Session, table: Table, rows: list[dict[str, Any]]) -> N
     procs = [(i, p) for i, c in enumerate(cols)
              if (p := table.c[c].type._cached_bind_processor(dialect)) is not None]
     if procs:
-        data = [tuple(row) for row in data]
+        # bulk rows repeat values (one timestamp for a whole import): convert each once
+        seen: list[dict[Any, Any]] = [{} for _ in procs]
         fixed = []
         for row in data:
             vals = list(row)
-            for i, p in procs:
-                vals[i] = p(vals[i])
+            for (i, p), memo in zip(procs, seen, strict=True):
+                v = vals[i]
+                try:
+                    vals[i] = memo[v]
+                except KeyError:
+                    vals[i] = memo[v] = p(v)
+                except TypeError:  # unhashable
+                    vals[i] = p(v)
             fixed.append(tuple(vals))
         data = fixed
     conn.exec_driver_sql(sql, data)

@@ -9,6 +9,7 @@ leaves the store as it was.
 
 from __future__ import annotations
 
+from collections.abc import Collection
 from dataclasses import dataclass
 from enum import StrEnum
 
@@ -146,7 +147,7 @@ def positive(qty: int, what: str = "quantity") -> int:
 
 
 def post_many(session: Session, entries: list[tuple[int, int, int]], *, reason: Reason,
-              ref: str = "") -> int:
+              ref: str = "", new_parts: Collection[int] = ()) -> int:
     """Receive many (part id, drawer id, qty > 0) at once: one movement each, balances summed.
 
     The bulk path of imports: one INSERT of movements, one of new balances, one UPDATE
@@ -163,7 +164,8 @@ def post_many(session: Session, entries: list[tuple[int, int, int]], *, reason: 
     totals: dict[tuple[int, int], int] = {}
     for p, d, q in entries:
         totals[(p, d)] = totals.get((p, d), 0) + q
-    part_ids = sorted({p for p, _ in totals})
+    fresh = set(new_parts)  # parts created in this transaction hold no balances yet
+    part_ids = sorted({p for p, _ in totals if p not in fresh})
     existing: set[tuple[int, int]] = set()
     for i in range(0, len(part_ids), 500):
         existing.update((int(a), int(b)) for a, b in session.execute(

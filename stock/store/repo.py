@@ -116,15 +116,18 @@ def insert_parts_bulk(session: Session, specs: Sequence[PartSpec]) -> dict[str, 
     # our rows are the ones above the old maximum id (we hold the write lock)
     ids = {k: int(i) for k, i in session.execute(
         select(Part.key, Part.id).where(Part.id > before))}
-    rows = [dict(part_id=ids[k], name=p.name, bound=Bound(p.bound).value,
-                 value=float(p.value), at=at_text(dict(p.at)) if p.at else "",
-                 origin=Origin(p.origin).value)
+    rows = [dict(part_id=ids[k], name=p.name, bound=p.bound.value, value=float(p.value),
+                 at=at_text(dict(p.at)) if p.at else "", origin=p.origin.value)
             for s, k in zip(specs, keys, strict=True) for p in s.params]
     bulk_insert(session, ParamRow.__table__, rows)
     return {k: ids[k] for k in keys}
 
 
 def ids_by_key(session: Session, keys: Sequence[str]) -> dict[str, int]:
+    """{key: id} of the parts among ``keys`` that are in the store."""
+    if len(keys) > 5000:  # one pass over the table beats hundreds of IN (...) queries
+        wanted = set(keys)
+        return {k: int(v) for k, v in session.execute(select(Part.key, Part.id)) if k in wanted}
     out: dict[str, int] = {}
     for i in range(0, len(keys), 900):
         out.update((k, int(v)) for k, v in session.execute(
