@@ -182,3 +182,20 @@ def test_count_cannot_go_below_reserved(store):
     with pytest.raises(InsufficientStock, match="only 4 of PN2222A are free"):
         store.take("PN2222A", "A1", 5)
     assert store.verify() == []
+
+
+def test_candidates_screen_drops_sure_failures_and_keeps_unknowns(store):
+    from stock.slots import Requirement, Source
+
+    store.save_part(pn2222a())  # VCEO 40 V
+    store.save_part(mpsh10())  # VCEO 25 V
+    store.save_part(PartSpec("NO-RATING", Kind.BJT, "npn"))  # VCEO unknown
+    for n in ("PN2222A", "MPSH10", "NO-RATING"):
+        store.receive(n, "A1", 3)
+    need = Requirement("vceo", Op.GE, 30.0, Source.ROLE)
+    got = {s.part.number for s in store.candidates(Kind.BJT, "npn", [need])}
+    assert got == {"PN2222A", "NO-RATING"}
+    got = {s.part.number for s in store.candidates(Kind.BJT, None,
+                                                   [Requirement("vceo", Op.LE, 30.0,
+                                                                Source.USER)])}
+    assert got == {"MPSH10", "NO-RATING"}

@@ -147,6 +147,7 @@ def fit(
         combinations_for,
         render_requirement,
         requirements_for,
+        screen,
         slot_from_args,
     )
     from stock.fit.text import si
@@ -176,7 +177,10 @@ def fit(
     fam = slot.part.family if slot.part is not None else None
     # polarity and channel must match, so the store may filter on them first
     prefilter = fam if slot.kind.value in ("bjt", "fet") else None
-    pool = store.candidates(slot.kind, prefilter)
+    # ratings that surely miss are dropped in the store query, before any ranking (unless
+    # failing parts are to be shown)
+    sure = () if (show_all or explain) else screen(reqs)
+    pool = store.candidates(slot.kind, prefilter, sure)
     ranked = assess(slot, pool, policy, need=qty, include_failing=show_all or bool(explain))
     if explain:
         key = part_key(explain)

@@ -11,6 +11,7 @@ from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import datetime
+from typing import Any
 
 from sqlalchemy import func, insert, select, text
 from sqlalchemy.engine import Engine
@@ -294,12 +295,17 @@ class Store:
                 where[pid].append((label, free))
         return [Stocked(specs[pid], free, where[pid]) for pid, free in pids_free]
 
-    def candidates(self, kind: Kind, family: str | None = None) -> list[Stocked]:
-        """Every part of ``kind`` (and ``family``) with free stock, with its parameters."""
-        from stock.store.search import free_parts
+    def candidates(self, kind: Kind, family: str | None = None,
+                   screen: Sequence[Any] = ()) -> list[Stocked]:
+        """Every part of ``kind`` (and ``family``) with free stock, with its parameters.
+
+        ``screen``: rating bounds (``stock.fit.screen``) that drop parts which surely fail;
+        parts that lack the parameter are kept.
+        """
+        from stock.store.search import load_candidates
 
         with self.read() as s:
-            return self.stocked(free_parts(s, kind, family), s)
+            return load_candidates(s, kind, family, screen)
 
     def find(self, kind: Kind | None = None, family: str | None = None,
              criteria: Sequence[object] = (), *, typical: bool = False,
