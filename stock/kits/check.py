@@ -192,12 +192,26 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     if twice:
         raise QuantityError(f"kit {twice[0]} is given twice; give it once with the total "
                             "number of copies")
-    by_kind: dict[Kind, list[Stocked]] = {}
+    from stock.kits.pool import CandidatePool, sure_bounds
 
-    def stock_of(kind: Kind) -> list[Stocked]:
-        if kind not in by_kind:
-            by_kind[kind] = list(store.candidates(kind))
-        return by_kind[kind]
+    # First the requirements of every slot, so the candidate pool knows which ratings to
+    # index per kind; then each slot's candidates come from the pool (stock.kits.pool:
+    # screened in the store, nearest first, enough to cover the need several times).
+    prepared = []
+    names: dict[Kind, set[str]] = {}
+    for kit, copies in kits:
+        for slot in kit.slots:
+            called, where = _resolve(slot, store, catalog)
+            work = slot if called is slot.part else _with_part(slot, called)
+            reqs = requirements_for(work, policy)
+            names.setdefault(slot.kind, set()).update(
+                r.param for r in sure_bounds(slot.kind, reqs) if r.param != "family")
+            prepared.append((slot, called, where, work, reqs, slot.qty * copies))
+    pool = CandidatePool(store, names)
+    picks = [(slot.kind, pool.pick(slot.kind, slot.calls_for, called, reqs, need))
+             for slot, called, _, _, reqs, need in prepared]
+    pool.preload(picks)
+    next_slot = iter(zip(prepared, picks, strict=True))
 
     checks: list[SlotCheck] = []
     demands: list[Demand] = []
@@ -209,20 +223,18 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
             report_notes.append(f"{kit.name}: plain BOM, no roles or operating conditions; "
                                 "each slot is held to the called-for part's own ratings")
         for slot in kit.slots:
-            called, where = _resolve(slot, store, catalog)
-            work = slot if called is slot.part else _with_part(slot, called)
+            (_, called, where, work, reqs, _), (_, rows) = next(next_slot)
             key = kit.slot_id(slot)
             if key in seen_keys:  # two ref-less slots of a BOM calling for the same text
                 key = f"{key}#{len(seen_keys)}"
             seen_keys.add(key)
             sc = SlotCheck(kit.name, key, slot, copies, slot.qty * copies,
                            called, _source_text(kit, work, called))
-            cands = stock_of(slot.kind)
+            cands = pool.stocked(slot.kind, rows)
             for s in cands:
                 if _is_exact(work, called, s.part):
                     sc.exact.append(s)
             exact_keys = {part_key(s.part.number) for s in sc.exact}
-            reqs = requirements_for(work, policy)
             user_family = any(r.param == "family" for r in slot.requirements)
             if called is None and slot.kind not in VALUE_KINDS and not user_family:
                 # Without the part's record even its polarity is unknown: a PNP must not
@@ -269,7 +281,9 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     for sc in checks:
         mine = {part_key(x.part.number) for x in sc.exact} | {part_key(a.part)
                                                               for a in sc.stand_ins}
-        others_use = {k: users[k] - (1 if k in mine else 0) for k in users}
+        # rank() looks up only this slot's stand-ins: count for those alone
+        others_use = {k: users[k] - (1 if k in mine else 0)
+                      for k in {part_key(a.part) for a in sc.stand_ins}}
         rank(sc.stand_ins, need=sc.need, ample=float(policy["rank_margin_ample"]),
              demand=others_use)
         ranked = [Ranked(x.part.number, exact=True, why="exact") for x in sc.exact]
@@ -286,7 +300,7 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     for key, n in plan.short.items():
         by_key[key].short = n
     if combinations:
-        _add_combinations(checks, plan, stock_of, policy)
+        _add_combinations(checks, plan, pool.around, policy)
     summaries = [_summary(kit, copies, checks, demands, supplies, links)
                  for kit, copies in kits]
     return CheckReport(checks, plan, summaries, report_notes)
@@ -312,7 +326,7 @@ def _source_text(kit: Kit, slot: Slot, called: PartSpec | None) -> str:
 
 
 def _add_combinations(checks: list[SlotCheck], plan: Plan,
-                      stock_of: Callable[[Kind], list[Stocked]], policy: Any) -> None:
+                      around: Callable[[Kind, float], list[Stocked]], policy: Any) -> None:
     from stock.fit.combine import find_combinations
 
     taken = plan.taken()
@@ -324,7 +338,7 @@ def _add_combinations(checks: list[SlotCheck], plan: Plan,
         if not target or target <= 0:
             continue
         left = []
-        for s in stock_of(sc.slot.kind):
+        for s in around(sc.slot.kind, target):
             drawers = [(d, f - taken.get((s.part.number, d), 0)) for d, f in s.drawers]
             drawers = [(d, f) for d, f in drawers if f > 0]
             if drawers:

@@ -307,6 +307,21 @@ class Store:
         with self.read() as s:
             return load_candidates(s, kind, family, screen)
 
+    def kind_index(self, kind: Kind, names: Sequence[str] = ()) -> tuple[list[Any], list[Any]]:
+        """A light index of the free parts of ``kind``; see
+        :func:`stock.store.search.kind_columns` (the kit check picks candidates from it)."""
+        from stock.store.search import kind_columns
+
+        with self.read() as s:
+            return kind_columns(s, kind, names)
+
+    def stocked_by_id(self, ids: Sequence[int]) -> dict[int, Stocked]:
+        """Full candidate records for part ids (from :meth:`kind_index`), by id."""
+        from stock.store.search import load_stocked
+
+        with self.read() as s:
+            return load_stocked(s, ids)
+
     def find(self, kind: Kind | None = None, family: str | None = None,
              criteria: Sequence[object] = (), *, typical: bool = False,
              include_empty: bool = False, limit: int | None = 50) -> list[Stocked]:

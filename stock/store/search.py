@@ -174,3 +174,62 @@ def load_candidates(session: Session, kind: Kind, family: str | None = None,
         where[pid].append((label, int(free)))
     return [Stocked(spec, sum(q for _, q in where[pid]), where[pid])
             for pid, spec in specs.items()]
+
+
+def kind_columns(session: Session, kind: Kind, names: Sequence[str]
+                 ) -> tuple[list[tuple[int, str, str | None, int]],
+                            list[tuple[int, str, str, float]]]:
+    """A light index of the free parts of ``kind`` for planners that pick candidates in
+    memory: (id, key, family, free) per part with free stock (in no particular order),
+    and (part id, name, bound, value) rows of the parameters in ``names`` — of any kind:
+    the caller keeps the rows of its own parts.
+
+    Two set-wise queries; no part records are built (the caller aggregates the rows).
+    Core rows through the session's connection: the ORM's row processing would double
+    the time on 100,000 rows. The parameter rows come straight off the (name, bound,
+    value) index; joining them to the kind's parts costs more than the rows it saves.
+    """
+    conn = session.connection()
+    free = (select(func.sum(Balance.on_hand - Balance.reserved))
+            .where(Balance.part_id == Part.id, Balance.on_hand > Balance.reserved)
+            .correlate(Part).scalar_subquery())
+    parts = [(int(pid), key, fam, int(q)) for pid, key, fam, q in conn.execute(
+        select(Part.id, Part.key, Part.family, free).where(Part.kind == Kind(kind).value))
+        if q]
+    if not names or not parts:
+        return parts, []
+    params = conn.execute(
+        select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value)
+        .where(ParamRow.name.in_(list(names)))).all()
+    return parts, params  # type: ignore[return-value]
+
+
+def load_stocked(session: Session, ids: Sequence[int]) -> dict[int, Stocked]:
+    """:class:`Stocked` records (free stock and drawers) for part ids, set-wise, by id."""
+    conn = session.connection()  # Core rows: no ORM row processing
+    out: dict[int, Stocked] = {}
+    for i in range(0, len(ids), 900):  # below SQLite's default bound-parameter limit
+        chunk = list(ids[i : i + 900])
+        specs: dict[int, PartSpec] = {}
+        for pid, number, kind, fam, package, pinout, desc, attrs, source in conn.execute(
+                select(Part.id, Part.number, Part.kind, Part.family, Part.package, Part.pinout,
+                       Part.description, Part.attrs, Part.source).where(Part.id.in_(chunk))):
+            specs[pid] = PartSpec(number, Kind(kind), fam, package, pinout, desc or "",
+                                  json.loads(attrs) if attrs and attrs != "{}" else {}, [],
+                                  source)
+        for pid, name, bound, value, at, origin in conn.execute(
+                select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value,
+                       ParamRow.at, ParamRow.origin)
+                .where(ParamRow.part_id.in_(chunk)).order_by(ParamRow.id)):
+            specs[pid].params.append(Param(name, _BOUNDS[bound], value,
+                                           json.loads(at) if at else {}, _ORIGINS[origin]))
+        where: dict[int, list[tuple[str, int]]] = {pid: [] for pid in specs}
+        for pid, label, free in conn.execute(
+                select(Balance.part_id, Drawer.label, Balance.on_hand - Balance.reserved)
+                .join(Drawer, Drawer.id == Balance.drawer_id)
+                .where(Balance.part_id.in_(chunk), Balance.on_hand > Balance.reserved)
+                .order_by(Balance.part_id, Drawer.label)):
+            where[pid].append((label, int(free)))
+        for pid, spec in specs.items():
+            out[pid] = Stocked(spec, sum(q for _, q in where[pid]), where[pid])
+    return out
