@@ -114,10 +114,15 @@ class CandidatePool:
         self._loaded: dict[Any, Stocked] = {}
 
     # --- the index ------------------------------------------------------------------------
-    def index(self, kind: Kind) -> _Index:
+    def index(self, kind: Kind, need: Iterable[str] = ()) -> _Index:
+        """The index of ``kind``, with columns for ``need`` (rebuilt when one is missing)."""
+        missing = set(need) - set(self._index[kind].lo) if kind in self._index else set()
+        if missing:
+            self.names.setdefault(kind, set()).update(missing)
+            del self._index[kind]
         if kind not in self._index:
-            names = sorted(self.names.get(kind, set()) | ({VALUE_PARAM[kind]}
-                                                         if kind in VALUE_PARAM else set()))
+            names = sorted(self.names.get(kind, set()) | set(need) |
+                           ({VALUE_PARAM[kind]} if kind in VALUE_PARAM else set()))
             if hasattr(self.store, "kind_index"):
                 parts, params = self.store.kind_index(kind, names)
                 self._index[kind] = _from_rows(parts, params, names)
@@ -162,13 +167,13 @@ class CandidatePool:
         """Index rows of one slot's candidates, exact ones first (see the module doc)."""
         import numpy as np
 
-        idx = self.index(kind)
+        sure = sure_bounds(kind, reqs)
+        idx = self.index(kind, {r.param for r in sure if r.param != "family"})
         n = len(idx.ids)
         if n == 0:
             return []
         name = VALUE_PARAM.get(kind)
         target = called.nominal(name) if (called is not None and name) else None
-        sure = sure_bounds(kind, reqs)
         # Rows to look at: a value slot's window (and the exact value) by binary search
         # in the value-sorted index, plus parts of unknown value; else every row.
         rows = np.arange(n)
