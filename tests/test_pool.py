@@ -183,3 +183,34 @@ def test_empty_store_gives_no_candidates(store, kind):  # type: ignore[no-untype
     pool = CandidatePool(store)
     assert pool.for_slot(kind, "X", None, [], 1) == []
     assert pool.around(Kind.RESISTOR, 1000.0) == []
+
+
+def test_family_alternatives_and_unknown_family_stay(store):  # type: ignore[no-untyped-def]
+    # A detector slot allows "signal|schottky|germanium|rectifier" diodes (stock.fit
+    # rules): every one of those families, and a diode with no family recorded (unknown,
+    # a warning), must pass the screen; a zener must not.
+    from dataclasses import replace
+
+    from stock.fit.engine import assess
+
+    for i, fam in enumerate(["signal", "schottky", None, "zener"]):
+        store.save_and_receive(PartSpec(f"DX{i}", Kind.DIODE, fam, "DO-35", "AK", params=[
+            Param("vrrm", Bound.MAX, 40.0), Param("if_avg", Bound.MAX, 0.2)]), "D1", 9)
+    kit = ('name = "d"\n[conditions]\nsupply = "12V"\n[[slot]]\nrefs = "D1"\n'
+           'calls_for = "DX0"\nkind = "diode"\nrole = "detector"\n'
+           'conditions = { current = "1mA", v_peak = "5V" }\n')
+    slot, called, reqs = _slot_reqs(kit, store)
+    fam = next(r for r in reqs if r.param == "family")
+    assert "|" in str(fam.value)
+    got = {s.part.number for s in
+           CandidatePool(store).for_slot(Kind.DIODE, slot.calls_for, called, reqs, 1)}
+    assert got == {"DX0", "DX1", "DX2"}
+    # the same through the store's own screened query (stock fit's path)
+    from stock.fit import screen
+
+    via_store = {s.part.number for s in store.candidates(Kind.DIODE, None, screen(reqs))}
+    assert via_store == {"DX0", "DX1", "DX2"}
+    # and the fit engine agrees that the zener is the one that fails
+    judged = assess(replace(slot, part=called), store.candidates(Kind.DIODE), POLICY,
+                    include_failing=True)
+    assert {a.part for a in judged if a.fitness.value == "fails"} == {"DX3"}

@@ -42,6 +42,10 @@ from stock.slots import Role, Slot
 #: Version of the JSON shape of a check report (docs/kits.md); bump on any change.
 JSON_VERSION = 1
 
+#: A slot whose first candidates (stock.kits.pool) do not cover its need looks at this
+#: many times as many before it is called short.
+WIDER = 8
+
 #: Nominal values closer than this (relative) are the same value (float noise only).
 _SAME_VALUE = 1e-6
 
@@ -249,6 +253,20 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
             else:
                 others = [s for s in cands if part_key(s.part.number) not in exact_keys]
                 sc.stand_ins = assess(work, others, policy, need=sc.need)
+                have = sum(s.free for s in sc.exact) + sum(a.stocked.free
+                                                           for a in sc.stand_ins)
+                if have < sc.need:
+                    # the first candidates failed checks the pool's screen cannot see:
+                    # look further (stock.kits.pool) before calling the slot short
+                    wide = pool.pick(slot.kind, slot.calls_for, called, reqs, sc.need,
+                                     wider=WIDER)
+                    if len(wide) > len(rows):
+                        cands = pool.stocked(slot.kind, wide)
+                        sc.exact = [s for s in cands if _is_exact(work, called, s.part)]
+                        exact_keys = {part_key(s.part.number) for s in sc.exact}
+                        others = [s for s in cands
+                                  if part_key(s.part.number) not in exact_keys]
+                        sc.stand_ins = assess(work, others, policy, need=sc.need)
             if called is None and user_family:
                 sc.notes.append(f"{slot.calls_for} is not in the store or the catalog: "
                                 "stand-ins are judged by the role and the kit's bounds only")

@@ -163,8 +163,13 @@ class CandidatePool:
             self._loaded.update(self.store.stocked_by_id(list(dict.fromkeys(ids))))
 
     def pick(self, kind: Kind, calls_for: str, called: PartSpec | None,
-             reqs: Sequence[Requirement], need: int) -> list[int]:
-        """Index rows of one slot's candidates, exact ones first (see the module doc)."""
+             reqs: Sequence[Requirement], need: int, *, wider: int = 1) -> list[int]:
+        """Index rows of one slot's candidates, exact ones first (see the module doc).
+
+        ``wider`` multiplies the limits: the kit check asks again, wider, for a slot whose
+        first candidates fail checks the screen cannot see (fT at the operating point,
+        VF) and do not cover its need.
+        """
         import numpy as np
 
         sure = sure_bounds(kind, reqs)
@@ -208,8 +213,10 @@ class CandidatePool:
         keep = np.ones(m, dtype=bool)
         score = np.zeros(m, dtype=float)
         for r in sure:
-            if r.param == "family":
-                keep &= fam == idx.code(str(r.value))
+            if r.param == "family":  # "signal|schottky": any of them (stock.fit.checks);
+                # a part with no family recorded is unknown (a warning), so it stays
+                keep &= np.isin(fam, [idx.code(f) for f in str(r.value).split("|")]
+                                + [idx.code(None)])
                 continue
             value = float(r.value)
             if r.param == name:
@@ -236,7 +243,7 @@ class CandidatePool:
         order = np.concatenate([first, rest])
         cum = np.cumsum(free[order])
         covered = int(np.searchsorted(cum, self.cover * max(need, 1))) + 1
-        take = min(max(self.least, covered), self.most, len(order))
+        take = min(max(self.least * wider, covered), self.most * wider, len(order))
         # the exact ones may exceed the cap when many are needed to cover the need
         take = max(take, min(len(first), covered))
         return rows[order[:take]].tolist()  # type: ignore[no-any-return]

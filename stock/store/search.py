@@ -11,7 +11,7 @@ import json
 from collections.abc import Sequence
 from typing import Any
 
-from sqlalchemy import and_, exists, func, select
+from sqlalchemy import and_, func, select
 from sqlalchemy.orm import Session
 
 from stock.kinds import Bound, Kind
@@ -51,11 +51,14 @@ def criterion_clause(c: Any, typical: bool = False) -> Any:
     if isinstance(value, str):
         needle = json.dumps({name: value})[1:-1]  # '"safety": "X2"', as attrs are stored
         return Part.attrs.like(f"%{needle}%")
-    return exists().where(
-        ParamRow.part_id == Part.id,
-        ParamRow.name == name,
-        ParamRow.bound.in_(_bounds(name, op, typical)),
-        _value_test(op, float(value)),
+    # An uncorrelated IN (...) is one range scan of the (name, bound, value) index; a
+    # correlated EXISTS let SQLite's planner rescan that index once per part (quadratic).
+    return Part.id.in_(
+        select(ParamRow.part_id).where(
+            ParamRow.name == name,
+            ParamRow.bound.in_(_bounds(name, op, typical)),
+            _value_test(op, float(value)),
+        )
     )
 
 
@@ -134,12 +137,14 @@ def screened(kind: Kind, family: str | None, screen: Sequence[Any] = ()) -> Any:
         stmt = stmt.where(Part.family == family)
     for r in screen:
         op, name = Op(r.op), r.param
-        if name == "family":
-            stmt = stmt.where(Part.family == str(r.value))
+        if name == "family":  # "signal|schottky": any of them; no family is unknown
+            stmt = stmt.where(Part.family.in_(str(r.value).split("|")) | Part.family.is_(None))
             continue
         miss = ParamRow.value < float(r.value) if op == Op.GE else ParamRow.value > float(r.value)
-        stmt = stmt.where(~exists().where(ParamRow.part_id == Balance.part_id,
-                                          ParamRow.name == name, ParamRow.bound != "typ", miss))
+        # uncorrelated NOT IN: one index range scan (see criterion_clause)
+        stmt = stmt.where(Balance.part_id.not_in(
+            select(ParamRow.part_id).where(ParamRow.name == name, ParamRow.bound != "typ",
+                                           miss)))
     return stmt.group_by(Balance.part_id)
 
 
