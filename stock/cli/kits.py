@@ -7,8 +7,6 @@ calls one function of :mod:`stock.kits.check` or :mod:`stock.builds` and renders
 answer.
 """
 
-from __future__ import annotations
-
 import re
 from pathlib import Path
 from typing import TYPE_CHECKING, Annotated, Any
@@ -59,7 +57,7 @@ def kits_with_copies(items: list[str], copies: list[int] | None) -> list[tuple[s
     return out
 
 
-def _load(path: str) -> Kit:
+def _load(path: str) -> "Kit":
     from stock.kits import load_any
 
     kit, warnings = load_any(path)
@@ -88,7 +86,7 @@ def _where(pairs: list[tuple[str, int]]) -> str:
     return ", ".join(f"{d} ×{q}" for d, q in sorted(pairs, key=lambda p: drawer_order(p[0])))
 
 
-def slot_result(sc: SlotCheck) -> tuple[str, list[str]]:
+def slot_result(sc: "SlotCheck") -> tuple[str, list[str]]:
     """A slot's result word (in stock, stand-in, combination, short) and detail lines."""
     lines: list[str] = []
     exact = [(a.drawer, a.qty) for a in sc.allocations if a.exact]
@@ -122,7 +120,7 @@ def slot_result(sc: SlotCheck) -> tuple[str, list[str]]:
     return word, lines
 
 
-def kit_cautions(report: CheckReport, kit: str, policy: Any) -> list[str]:
+def kit_cautions(report: "CheckReport", kit: str, policy: Any) -> list[str]:
     """The fit engine's cautions for every slot of ``kit`` and the stand-ins chosen for
     it, each once, in slot order."""
     from dataclasses import replace
@@ -144,7 +142,7 @@ def kit_cautions(report: CheckReport, kit: str, policy: Any) -> list[str]:
     return out
 
 
-def render_check(report: CheckReport, policy: Any, cautions: dict[str, list[str]]) -> None:
+def render_check(report: "CheckReport", policy: Any, cautions: dict[str, list[str]]) -> None:
     out = console()
     several = len(report.summaries) > 1
     for summary in report.summaries:
@@ -217,7 +215,7 @@ def check(
 # --- builds -----------------------------------------------------------------------------------
 
 
-def _held_rows(info: BuildInfo) -> list[list[Any]]:
+def _held_rows(info: "BuildInfo") -> list[list[Any]]:
     rows = []
     for s in info.slots:
         refs = ", ".join(s.refs) if len(s.refs) <= 3 else f"{s.refs[0]} … {s.refs[-1]}"
@@ -229,7 +227,7 @@ def _held_rows(info: BuildInfo) -> list[list[Any]]:
     return rows
 
 
-def _show(info: BuildInfo) -> None:
+def _show(info: "BuildInfo") -> None:
     console().print(f"[bold]{info.name}[/bold]: {info.copies} × {info.kit}, {info.built} built, "
                     f"{info.status}; {info.held} units held"
                     + (f", {info.short} short" if info.short else ""))
