@@ -75,7 +75,8 @@ def search(session: Session, kind: Kind | None, family: str | None,
     comes first (keep the better parts for where they are needed), then by free stock.
     """
     free = _free().label("free")
-    stmt = select(Part.id, free).outerjoin(Balance, Balance.part_id == Part.id)
+    matched = select(Part.id.label("id"), Part.key.label("key"), free).outerjoin(
+        Balance, Balance.part_id == Part.id)
     conds = []
     if kind is not None:
         conds.append(Part.kind == Kind(kind).value)
@@ -83,23 +84,27 @@ def search(session: Session, kind: Kind | None, family: str | None,
         conds.append(Part.family == family)
     conds.extend(criterion_clause(c, typical) for c in criteria)
     if conds:
-        stmt = stmt.where(and_(*conds))
-    stmt = stmt.group_by(Part.id, Part.key)
+        matched = matched.where(and_(*conds))
+    matched = matched.group_by(Part.id, Part.key)
     if not include_empty:
-        stmt = stmt.having(_free() > 0)
+        matched = matched.having(_free() > 0)
+    m = matched.subquery("m")
+    stmt = select(m.c.id, m.c.free)
     order: list[Any] = []
     numeric = [c for c in criteria if c.param not in COLUMNS and not isinstance(c.value, str)]
     if numeric:
+        # The sort key is joined as one aggregate over the criterion's index range, not a
+        # correlated subquery per part: without statistics SQLite ran that subquery through
+        # the (name, bound, value) index once per part, quadratic on a large store.
         c = numeric[0]
-        key = (
-            select(func.min(ParamRow.value) if Op(c.op) != Op.LE else func.max(ParamRow.value))
-            .where(ParamRow.part_id == Part.id, ParamRow.name == c.param,
-                   ParamRow.bound.in_(_bounds(c.param, Op(c.op), typical)))
-            .correlate(Part)
-            .scalar_subquery()
-        )
-        order.append(key.desc() if Op(c.op) == Op.LE else key.asc())
-    order += [_free().desc(), Part.key]
+        agg = func.min(ParamRow.value) if Op(c.op) != Op.LE else func.max(ParamRow.value)
+        k = (select(ParamRow.part_id.label("part_id"), agg.label("v"))
+             .where(ParamRow.name == c.param,
+                    ParamRow.bound.in_(_bounds(c.param, Op(c.op), typical)))
+             .group_by(ParamRow.part_id).subquery("k"))
+        stmt = stmt.outerjoin(k, k.c.part_id == m.c.id)
+        order.append(k.c.v.desc() if Op(c.op) == Op.LE else k.c.v.asc())
+    order += [m.c.free.desc(), m.c.key]
     stmt = stmt.order_by(*order)
     if limit:
         stmt = stmt.limit(limit)
