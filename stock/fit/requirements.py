@@ -13,6 +13,7 @@ user over role over part (a 24 V class-C swing replaces the called-for part's 40
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 from stock.fit.checks import DIELECTRIC_RANGE, _ambient_pd
 from stock.fit.text import frac, si
@@ -377,6 +378,11 @@ def _key(r: Requirement) -> tuple[str, Op, tuple[tuple[str, float], ...]]:
     return (r.param, r.op, r.at if r.param == "cv" else ())
 
 
+#: Roles where a transistor's speed is not what the position demands (at DC or audio).
+LOW_FREQUENCY_ROLES = frozenset({Role.SWITCH, Role.PASS, Role.AUDIO_AMP, Role.BIAS,
+                                 Role.REGULATOR, Role.LOAD})
+
+
 def requirements_for(slot: Slot, policy: Policy) -> list[Requirement]:
     """The requirements of a slot: part ratings, role rules and explicit bounds merged.
 
@@ -385,6 +391,11 @@ def requirements_for(slot: Slot, policy: Policy) -> list[Requirement]:
     """
     part_reqs = _from_part(slot.part, slot, policy) if slot.part is not None else []
     role_reqs = _from_role(slot, policy)
+    if slot.role in LOW_FREQUENCY_ROLES and slot.conditions.freq is None:
+        # The called-for part's figures decide only "when nothing more is known". In a
+        # switch, pass element, bias or audio stage with no frequency given, its fT says
+        # how fast the designer's part was, not what the position needs: a preference.
+        part_reqs = [replace(r, warn_only=True) if r.param == "ft" else r for r in part_reqs]
     if slot.conditions.ambient is not None and slot.kind in (
             Kind.CAPACITOR, Kind.RESISTOR, Kind.INDUCTOR, Kind.CRYSTAL) and \
             not any(r.param == "tmax" for r in part_reqs):
