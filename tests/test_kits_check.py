@@ -122,7 +122,9 @@ def test_check_three_copies(shelf):
     # copies: R allows 2 (10 // 4), C1 only 1 → one complete copy, C1 limits it
     (summary,) = rep.summaries
     assert (summary.wanted, summary.buildable) == (3, 1)
-    assert summary.limits == ["C1 (100n X7R 50V): 1 per copy, 1 short for copy 2"]
+    # the limit names the combination that could make the missing unit
+    assert summary.limits == ["C1 (100n X7R 50V): 1 per copy, 1 short for copy 2; "
+                              "or make it: 47n X7R 50V 2% ∥ 47n X7R 50V 2%"]
     assert not rep.complete
     doc = check_json(rep)
     json.dumps(doc)  # plain JSON

@@ -391,10 +391,11 @@ def requirements_for(slot: Slot, policy: Policy) -> list[Requirement]:
     """
     part_reqs = _from_part(slot.part, slot, policy) if slot.part is not None else []
     role_reqs = _from_role(slot, policy)
-    if slot.role in LOW_FREQUENCY_ROLES and slot.conditions.freq is None:
+    if slot.role in LOW_FREQUENCY_ROLES:
         # The called-for part's figures decide only "when nothing more is known". In a
-        # switch, pass element, bias or audio stage with no frequency given, its fT says
-        # how fast the designer's part was, not what the position needs: a preference.
+        # switch, pass element, bias or audio stage its fT says how fast the designer's
+        # part was, not what the position needs (the circuit's RF frequency, if the kit
+        # gives one, is not this stage's): a preference.
         part_reqs = [replace(r, warn_only=True) if r.param == "ft" else r for r in part_reqs]
     if slot.conditions.ambient is not None and slot.kind in (
             Kind.CAPACITOR, Kind.RESISTOR, Kind.INDUCTOR, Kind.CRYSTAL) and \

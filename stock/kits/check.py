@@ -402,8 +402,12 @@ def _summary(kit: Kit, copies: int, checks: list[SlotCheck], demands: list[Deman
     if lo < copies:
         for key, n in short_at(lo + 1).items():
             sc = mine[key]
-            limits.append(f"{sc.refs or sc.slot.calls_for} ({sc.slot.calls_for}): "
-                          f"{sc.slot.qty} per copy, {n} short for copy {lo + 1}")
+            text = (f"{sc.refs or sc.slot.calls_for} ({sc.slot.calls_for}): "
+                    f"{sc.slot.qty} per copy, {n} short for copy {lo + 1}")
+            made = next((c for c in sc.combinations if c.ok), None)
+            if made is not None:  # not counted above: a combination is the builder's call
+                text += f"; or make it: {made.describe()}"
+            limits.append(text)
     return KitSummary(kit.name, copies, lo, limits)
 
 
