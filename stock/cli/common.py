@@ -30,7 +30,7 @@ CopiesOpt = Annotated[int, typer.Option("--copies", "-n", min=1,
 class StockGroup(TyperGroup):
     """Turns our errors into one line on stderr and exit code 1 (usage errors stay 2)."""
 
-    def invoke(self, ctx: typer.Context) -> Any:
+    def invoke(self, ctx: typer.Context) -> Any:  # type: ignore[override]
         from stock.errors import StockError
 
         try:

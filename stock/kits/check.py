@@ -191,8 +191,8 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     if catalog is None:
         catalog = _default_catalog()
     several = len(kits) > 1
-    names = [kit.name for kit, _ in kits]
-    twice = sorted({n for n in names if names.count(n) > 1})
+    kit_names = [kit.name for kit, _ in kits]
+    twice = sorted({n for n in kit_names if kit_names.count(n) > 1})
     if twice:
         raise QuantityError(f"kit {twice[0]} is given twice; give it once with the total "
                             "number of copies")
@@ -202,16 +202,16 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     # index per kind; then each slot's candidates come from the pool (stock.kits.pool:
     # screened in the store, nearest first, enough to cover the need several times).
     prepared = []
-    names: dict[Kind, set[str]] = {}
+    indexed: dict[Kind, set[str]] = {}
     for kit, copies in kits:
         for slot in kit.slots:
             called, where = _resolve(slot, store, catalog)
             work = slot if called is slot.part else _with_part(slot, called)
             reqs = requirements_for(work, policy)
-            names.setdefault(slot.kind, set()).update(
+            indexed.setdefault(slot.kind, set()).update(
                 r.param for r in sure_bounds(slot.kind, reqs) if r.param != "family")
             prepared.append((slot, called, where, work, reqs, slot.qty * copies))
-    pool = CandidatePool(store, names)
+    pool = CandidatePool(store, indexed)
     picks = [(slot.kind, pool.pick(slot.kind, slot.calls_for, called, reqs, need))
              for slot, called, _, _, reqs, need in prepared]
     pool.preload(picks)

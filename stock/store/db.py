@@ -13,7 +13,7 @@ from operator import itemgetter
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from sqlalchemy import Table, create_engine, event, text
+from sqlalchemy import FromClause, Table, create_engine, event, text
 from sqlalchemy.engine import Engine
 from sqlalchemy.orm import Session
 
@@ -139,7 +139,7 @@ def session_scope(engine: Engine, *, write: bool = False) -> Iterator[Session]:
             yield session
 
 
-def bulk_insert(session: Session, table: Table, rows: list[dict[str, Any]]) -> None:
+def bulk_insert(session: Session, table: FromClause, rows: list[dict[str, Any]]) -> None:
     """Insert many rows with one DBAPI ``executemany``, skipping per-row Core overhead.
 
     The bulk paths (imports, restores) use this: measured here, Core inserts cost 3–4×
@@ -152,6 +152,7 @@ def bulk_insert(session: Session, table: Table, rows: list[dict[str, Any]]) -> N
     dialect = conn.dialect
     cols = list(rows[0])
     quote = dialect.identifier_preparer.quote
+    assert isinstance(table, Table)  # a mapped class's __table__
     mark = "?" if dialect.paramstyle == "qmark" else "%s"
     sql = (f"INSERT INTO {quote(table.name)} ({', '.join(quote(c) for c in cols)}) "
            f"VALUES ({', '.join([mark] * len(cols))})")
