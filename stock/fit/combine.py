@@ -361,7 +361,7 @@ def _rate(topology: Topology, kind: Kind, cands: Sequence[_Cand], *, v_working: 
         series_like = topology is not Topology.PARALLEL
         if series_like and any(c.stocked.part.family in POLARISED_FAMILIES for c in cands):
             notes.append("polarised capacitors in series: leakage, not capacitance, sets the "
-                          "DC sharing; fit equal balancing resistors across each (facts.md §5.4)")
+                          "DC sharing; fit equal balancing resistors across each")
         if v_working is not None:
             fr = _worst_share(topology, kind, cands,
                               lambda vals, i: _voltage_fractions(topology, kind, vals)[i])

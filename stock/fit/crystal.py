@@ -181,7 +181,7 @@ def reachable(crystal: PartSpec, f_wanted: float, cl_range: tuple[float, float],
     c1_eff = c1 / n**2
     if n > 1:
         notes.append(f"overtone {n}: pulls about 1/{n * n} as far as the fundamental "
-                     "(facts.md §5.2)")
+                     "(crystal makers' application notes)")
     cl_spec = crystal.nominal("cl") or 0.0
     _check(c1_eff, c0, lo_cl, hi_cl, cl_spec)
     # cl = 0 on record means the frequency is the series resonance itself
