@@ -12,13 +12,14 @@ from typing import TYPE_CHECKING
 from stock.errors import StockError
 from stock.kinds import Kind, normalise_family, parse_kind
 from stock.parts import Origin, Param, PartSpec
+from stock.valuetext import VALUE_KINDS, VALUE_PARAMS, value_part
 
 if TYPE_CHECKING:
     from stock.catalog import Catalog
 
-#: The parameter that holds a passive part's value, by kind.
-VALUE_PARAM = {Kind.RESISTOR: ("r", "Ω"), Kind.CAPACITOR: ("c", "F"), Kind.INDUCTOR: ("l", "H"),
-               Kind.CRYSTAL: ("f", "Hz")}
+#: The parameter that holds a passive part's value and its unit, by kind (from
+#: stock.valuetext, which reads value text).
+VALUE_PARAM: dict[Kind, tuple[str, str]] = {k: (VALUE_PARAMS[k], u) for k, u in VALUE_KINDS.items()}
 
 
 @dataclass
@@ -82,12 +83,10 @@ def build_spec(number: str, *, kind: str | Kind | None = None, family: str | Non
                          "or use another number")
     user = list(_parse_params(tuple(params), base.kind)) if params else []
     if base.kind in VALUE_PARAM and base.get(VALUE_PARAM[base.kind][0]) is None:
-        # a passive named by its value ("4k7", "100n C0G 50V"): read the name as a kit
-        # slot would, so the two agree on what "470" means (470 Ω, not an SMD code)
-        from stock.kits.kitfile import called_part
-
+        # a passive named by its value ("4k7", "100n C0G 50V"): read the name with the one
+        # value reader, as a kit slot is, so "470" is 470 Ω here too (not an SMD code)
         try:
-            named = called_part(base.kind, number)
+            named = value_part(base.kind, number)
         except StockError:
             named = None
         if named is not None:

@@ -16,10 +16,11 @@ from stock.fit.checks import Verdict, check_one, check_part
 from stock.fit.dropin import dropin
 from stock.fit.rank import Assessment, fitness_of, rank, versatility
 from stock.fit.requirements import requirements_for
-from stock.kinds import FAMILIES, Bound, Kind, normalise_family, parse_kind
-from stock.parts import Origin, Param, PartSpec, Stocked
+from stock.kinds import FAMILIES, Kind, normalise_family, parse_kind
+from stock.parts import PartSpec, Stocked
 from stock.rules import Policy
 from stock.slots import Conditions, Op, Requirement, Role, Slot, Source
+from stock.valuetext import VALUE_KINDS, value_kind, value_part
 
 #: Version of the JSON shape of one assessment (docs/fit.md); bump on any change.
 JSON_VERSION = 1
@@ -128,107 +129,19 @@ def assessment_json(a: Assessment) -> dict[str, Any]:
 
 # --- building a slot from the command line ---------------------------------------------
 
-_VALUE_UNIT = {Kind.RESISTOR: "Ω", Kind.CAPACITOR: "F", Kind.INDUCTOR: "H", Kind.CRYSTAL: "Hz"}
-_VALUE_PARAM = {Kind.RESISTOR: "r", Kind.CAPACITOR: "c", Kind.INDUCTOR: "l", Kind.CRYSTAL: "f"}
-_SAFETY = frozenset({"X1", "X2", "X3", "Y1", "Y2", "Y3", "Y4"})
-
-
-def _parse(text: str, unit: str | None, kind: Kind | None = None) -> Any:
-    from stock.quantities import parse_value
-
-    return parse_value(text, unit, kind=kind)
-
-
 def resolve_value_slot(text: str, kind: Kind) -> PartSpec:
     """A part record from a value written on a slot: ``4k7``, ``100n C0G 50V``, ``10n X2``.
 
-    The first word is the value (builders' notation or a marking code); the rest may be a
-    family (dielectric, resistor technology), a rated voltage (``50V``, ``275VAC``), a
-    power (``0.25W``), a tolerance (``5%``), a safety class (``X2``, ``X1/Y2``) or, for a
-    crystal, its load capacitance (``20pF``). Raises :class:`NotationError` naming a word
-    it cannot read.
+    Read by :func:`stock.valuetext.value_part` (the one reader of value text, so a slot
+    on the command line means what the same text means in a kit file: ``470`` on a
+    resistor is 470 Ω). Raises :class:`NotationError` naming a word it cannot read, or
+    for a kind that is called for by part number.
     """
-    if kind not in _VALUE_UNIT:
+    part = value_part(kind, text, description="a value written on the slot")
+    if part is None:
         raise NotationError(f"{text!r}: only resistor, capacitor, inductor and crystal values "
                             f"can be written as values, not a {kind.value}; give a part number")
-    words = text.split()
-    if not words:
-        raise NotationError("empty value; write it like 4k7, 100n C0G 50V or 22uH")
-    unit = _VALUE_UNIT[kind]
-    # the value may be written with a space before its unit: "4.7 kΩ", "10.106 MHz"
-    try:
-        value = _parse(" ".join(words[:2]), unit, kind) if len(words) > 1 else None
-        rest = words[2:]
-    except NotationError:
-        value = None
-    if value is None:
-        value = _parse(words[0], unit, kind)
-        rest = words[1:]
-    params: list[Param] = [Param(_VALUE_PARAM[kind], Bound.NOM, value.value, {}, Origin.USER)]
-    tol = value.tol
-    family: str | None = None
-    attrs: dict[str, str] = {}
-    for w in rest:
-        up = w.upper()
-        if all(part in _SAFETY for part in up.split("/")):
-            attrs["safety"] = up
-            continue
-        try:
-            family = normalise_family(kind, w)
-            continue
-        except ValueError:
-            pass
-        if w.endswith("%"):
-            t = float(w.lstrip("±+").rstrip("%").strip()) / 100
-            tol = (-t, t)
-            continue
-        if up.endswith(("VAC", "VDC", "V")):
-            name = "v_ac" if up.endswith("VAC") else "v_rated"
-            params.append(Param(name, Bound.MAX, _parse(up.removesuffix("AC").removesuffix("DC"),
-                                                        "V").value))
-            continue
-        if up.endswith("W") and kind is Kind.RESISTOR:
-            if "/" in w:
-                a, b = w[:-1].split("/", 1)
-                watts = float(a) / float(b)
-            else:
-                watts = _parse(w, "W").value
-            params.append(Param("p_rated", Bound.MAX, watts))
-            continue
-        if kind is Kind.CRYSTAL and up.endswith("F"):
-            params.append(Param("cl", Bound.NOM, _parse(w, "F").value))
-            continue
-        raise NotationError(f"cannot read {w!r} in {text!r}; write a family (C0G, X7R, "
-                            "metal-film), a voltage (50V), a power (0.25W), a tolerance (5%) "
-                            "or a safety class (X2)")
-    if tol is not None:
-        params += [Param("tol", Bound.MIN, tol[0]), Param("tol", Bound.MAX, tol[1])]
-    return PartSpec(text.strip(), kind, family, None, None, "a value written on the slot",
-                    attrs, params)
-
-
-_UNIT_KIND = {"Ω": Kind.RESISTOR, "F": Kind.CAPACITOR, "H": Kind.INDUCTOR, "Hz": Kind.CRYSTAL}
-
-
-def _guess_kind(text: str) -> Kind | None:
-    """The kind a bare value implies: its unit (4.7kΩ, 22uF, 10uH, 10MHz), else the RKM
-    letter (IEC 60062: R, K/k, M, G for resistance; p, n, u/µ for capacitance), else None."""
-    words = text.split()
-    if not words:
-        return None
-    first = words[0]
-    try:
-        v = _parse(first, None)
-    except (NotationError, ValueError):
-        return None
-    if v.unit in _UNIT_KIND:
-        return _UNIT_KIND[v.unit]
-    letters = {ch for ch in first if ch.isalpha()}
-    if letters & set("pnuµμ"):
-        return Kind.CAPACITOR
-    if letters & set("RKkMG"):
-        return Kind.RESISTOR
-    return None
+    return part
 
 
 def parse_role(text: str | Role | None) -> Role:
@@ -270,7 +183,7 @@ def slot_from_args(calls_for: str, *, kind: Kind | str | None = None,
             raise ValueError(f"{calls_for} is a {part.kind.value}, not a {k.value}; "
                              "drop --kind or name another part")
     else:
-        k = k or _guess_kind(calls_for)
+        k = k or value_kind(calls_for)
         if k is None:
             raise UnknownPart(f"no part {calls_for!r} in the store or the catalog; add it "
                               "with 'stock add', or give --kind and --need bounds")
@@ -283,7 +196,7 @@ def slot_from_args(calls_for: str, *, kind: Kind | str | None = None,
         if fam is not None:
             reqs.append(Requirement("family", Op.EQ, fam, Source.USER,
                                     "written on the command line"))
-        elif k in _VALUE_UNIT:
+        elif k in VALUE_KINDS:
             part = resolve_value_slot(calls_for, k)
         else:
             raise UnknownPart(f"no part {calls_for!r} in the store or the catalog; add it "

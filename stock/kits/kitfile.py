@@ -23,7 +23,6 @@ known (did you mean rf-amp?); use one of: ...``.
 
 from __future__ import annotations
 
-import re
 import tomllib
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
@@ -31,14 +30,16 @@ from pathlib import Path
 from typing import Any
 
 from stock.errors import KitFileError, NotationError
-from stock.kinds import FAMILIES, Bound, Kind, normalise_family
+from stock.kinds import Kind
 from stock.kits.designators import compress, expand
 from stock.kits.schema import validate
 from stock.kits.tomllines import Path as KeyPath
 from stock.kits.tomllines import line_index, line_of
-from stock.params import PARAMS
-from stock.parts import Param, PartSpec, part_key
+from stock.parts import PartSpec, part_key
 from stock.slots import Conditions, Op, Requirement, Role, Slot, Source
+from stock.valuetext import SAFETY_CLASSES as SAFETY_CLASSES  # re-exported
+from stock.valuetext import VALUE_KINDS as VALUE_KINDS  # re-exported
+from stock.valuetext import value_part
 
 #: Units of the condition keys (stock.slots.Conditions fields).
 CONDITION_UNITS: dict[str, str] = {
@@ -64,22 +65,6 @@ BANDS: dict[str, tuple[float, float]] = {
     "6m": (50.0e6, 54.0e6),
     "2m": (144.0e6, 148.0e6),
 }
-
-#: Kinds whose slots call for a value rather than a part number, and the unit of it.
-VALUE_KINDS: dict[Kind, str] = {
-    Kind.RESISTOR: "Ω", Kind.CAPACITOR: "F", Kind.INDUCTOR: "H", Kind.CRYSTAL: "Hz",
-}
-
-#: What a unit-bearing word after the value means, per kind ("100n C0G 50V").
-_EXTRA_PARAMS: dict[Kind, dict[str, str]] = {
-    Kind.RESISTOR: {"W": "p_rated", "V": "v_limit"},
-    Kind.CAPACITOR: {"V": "v_rated"},
-    Kind.INDUCTOR: {"A": "irms", "Hz": "srf"},
-    Kind.CRYSTAL: {"F": "cl", "W": "drive"},
-}
-
-#: IEC 60384-14 safety subclasses a capacitor's text may name (facts.md §3.4).
-SAFETY_CLASSES = ("X1", "X2", "X3", "Y1", "Y2", "Y3", "Y4")
 
 
 @dataclass
@@ -162,86 +147,9 @@ def conditions_from(table: Mapping[str, Any]) -> tuple[Conditions, str | None]:
 
 def called_part(kind: Kind, text: str, *, package: str | None = None,
                 pinout: str | None = None) -> PartSpec | None:
-    """The part a value slot calls for, from its text: ``"100n C0G 50V"`` → a 100 nF C0G
-    capacitor rated 50 V. None for kinds called for by part number (bjt, fet, ...).
-
-    The first word is the value (a tolerance letter may follow, ``4K7J``); later words
-    may give the family (``C0G``, ``film``), a tolerance (``5%``), a rating (``50V`` on
-    a capacitor, ``0.25W`` on a resistor, ``1A`` on an inductor, ``20pF`` load on a
-    crystal) or a safety class (``X2``). Raises NotationError for a word it cannot place.
-    """
-    unit = VALUE_KINDS.get(kind)
-    if unit is None:
-        return None
-    from stock.quantities import parse_quantity, parse_tol, parse_value
-
-    words = text.replace(",", " ").split()
-    if not words:
-        raise NotationError(f"no value in {text!r}; write it like 4k7 or 100n C0G 50V")
-    # Marking codes are read on capacitors and inductors ("104" = 100 nF, "4R7" = 4.7 µH;
-    # IEC 60062, facts.md §2.4) but not on resistors, where builders write a bare "470"
-    # for 470 Ω and the SMD code reading (47 Ω) would be a trap.
-    code_kind = kind if kind in (Kind.CAPACITOR, Kind.INDUCTOR) else None
-    first = parse_value(words[0], unit, kind=code_kind)
-    nominal = {Kind.RESISTOR: "r", Kind.CAPACITOR: "c", Kind.INDUCTOR: "l",
-               Kind.CRYSTAL: "f"}[kind]
-    params = [Param(nominal, Bound.NOM, first.value)]
-    tol = first.tol
-    family: str | None = None
-    attrs: dict[str, str] = {}
-    extra = _EXTRA_PARAMS.get(kind, {})
-    for word in words[1:]:
-        if word.endswith("%"):
-            tol = parse_tol(word)
-            continue
-        if kind is Kind.CAPACITOR and word.upper() in SAFETY_CLASSES:
-            attrs["safety"] = word.upper()
-            continue
-        if FAMILIES.get(kind):
-            try:
-                fam = normalise_family(kind, word)
-            except ValueError:
-                fam = None
-            if fam is not None:
-                family = fam
-                continue
-        ac = re.fullmatch(r"(.+V)\s*(?:AC|ac|Vac|~)", word)
-        if kind is Kind.CAPACITOR and ac:
-            params.append(Param("v_ac", PARAMS["v_ac"].bound, parse_quantity(ac[1], "V")))
-            continue
-        placed = False
-        for u, pname in extra.items():
-            try:
-                v = _fraction(word, u) or parse_quantity(word, u)
-            except NotationError:
-                continue
-            params.append(Param(pname, PARAMS[pname].bound, v))
-            placed = True
-            break
-        if not placed:
-            fams = ", ".join(FAMILIES.get(kind, ())[:6])
-            units = ", ".join(extra) or "none"
-            raise NotationError(
-                f"cannot place {word!r} in {text!r}; after the value write a family "
-                f"({fams} ...), a tolerance (5%) or a rating in {units}")
-    if "safety" in attrs:
-        # A safety capacitor is marked with its AC rating (IEC 60384-14; facts.md §3.4):
-        # "100n X2 275V" means 275 V AC, never a DC rating.
-        params = [Param("v_ac", p.bound, p.value) if p.name == "v_rated" else p
-                  for p in params]
-    if tol is not None:
-        params.append(Param("tol", Bound.MIN, tol[0]))
-        params.append(Param("tol", Bound.MAX, tol[1]))
-    return PartSpec(number=text.strip(), kind=kind, family=family, package=package,
-                    pinout=pinout, attrs=attrs, params=params, source="kit")
-
-
-def _fraction(word: str, unit: str) -> float | None:
-    """``1/4W`` as builders write resistor power: 0.25 (W); None for any other text."""
-    m = re.fullmatch(r"(\d+)/(\d+)\s*" + re.escape(unit), word.strip())
-    if not m or int(m[2]) == 0:
-        return None
-    return int(m[1]) / int(m[2])
+    """The part a value slot calls for (``"100n C0G 50V"``), or None for kinds called for
+    by part number; :func:`stock.valuetext.value_part` reads it, marked as from a kit."""
+    return value_part(kind, text, package=package, pinout=pinout, source="kit")
 
 
 def requirement_from(text: str, kind: Kind | None = None) -> Requirement:
