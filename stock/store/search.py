@@ -8,7 +8,8 @@ only when asked (``typical=True``), since nothing guarantees them.
 from __future__ import annotations
 
 import json
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
+from types import MappingProxyType
 from typing import Any
 
 from sqlalchemy import and_, func, select
@@ -129,6 +130,7 @@ def free_parts(session: Session, kind: Kind, family: str | None = None) -> list[
 
 _BOUNDS = {b.value: b for b in Bound}
 _ORIGINS = {o.value: o for o in Origin}
+_NO_CONDITIONS: Mapping[str, float] = MappingProxyType({})
 
 
 def screened(kind: Kind, family: str | None, screen: Sequence[Any] = ()) -> Any:
@@ -161,21 +163,25 @@ def load_candidates(session: Session, kind: Kind, family: str | None = None,
     table over the screened ids, no per-part round trips.
     """
     ids = screened(kind, family, screen).subquery()
+    conn = session.connection()  # Core rows: the ORM's row processing is not needed here
+    conditions: dict[str, Mapping[str, float]] = {"": _NO_CONDITIONS}
     specs: dict[int, PartSpec] = {}
-    for pid, number, fam, package, pinout, desc, attrs, source in session.execute(
+    for pid, number, fam, package, pinout, desc, attrs, source in conn.execute(
             select(Part.id, Part.number, Part.family, Part.package, Part.pinout,
                    Part.description, Part.attrs, Part.source)
             .where(Part.id.in_(select(ids.c.part_id))).order_by(Part.id)):
         specs[pid] = PartSpec(number, kind, fam, package, pinout, desc or "",
                               json.loads(attrs) if attrs and attrs != "{}" else {}, [], source)
-    for pid, name, bound, value, at, origin in session.execute(
+    for pid, name, bound, value, at, origin in conn.execute(
             select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value, ParamRow.at,
                    ParamRow.origin)
             .where(ParamRow.part_id.in_(select(ids.c.part_id))).order_by(ParamRow.id)):
-        specs[pid].params.append(Param(name, _BOUNDS[bound], value,
-                                       json.loads(at) if at else {}, _ORIGINS[origin]))
+        at_map = conditions.get(at)
+        if at_map is None:  # most parts share a few condition strings ("ta" = 25 °C)
+            at_map = conditions[at] = MappingProxyType(json.loads(at))  # shared: read-only
+        specs[pid].params.append(Param(name, _BOUNDS[bound], value, at_map, _ORIGINS[origin]))
     where: dict[int, list[tuple[str, int]]] = {pid: [] for pid in specs}
-    for pid, label, free in session.execute(
+    for pid, label, free in conn.execute(
             select(Balance.part_id, Drawer.label, Balance.on_hand - Balance.reserved)
             .join(Drawer, Drawer.id == Balance.drawer_id)
             .where(Balance.part_id.in_(select(ids.c.part_id)),
