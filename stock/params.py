@@ -160,3 +160,10 @@ def param_def(name: str) -> ParamDef:
             f"unknown parameter {name!r}{suggest(key, list(PARAMS))}; "
             "see 'stock params' for the list"
         ) from None
+
+
+#: The parameter that holds a value part's nominal value, by kind.
+VALUE_PARAMS: dict[Kind, str] = {_R: "r", _C: "c", _L: "l", _X: "f"}
+
+#: The value kinds that combine in series and parallel (resistors, capacitors, inductors).
+RLC_PARAMS: dict[Kind, str] = {k: v for k, v in VALUE_PARAMS.items() if k is not _X}

@@ -28,7 +28,7 @@ from typing import Any
 
 from stock.errors import NotationError
 from stock.kinds import FAMILIES, Bound, Kind, normalise_family
-from stock.params import PARAMS
+from stock.params import PARAMS, VALUE_PARAMS
 from stock.parts import Param, PartSpec
 
 __all__ = [
@@ -43,9 +43,6 @@ VALUE_KINDS: dict[Kind, str] = {
 }
 
 #: The parameter (stock.params) that holds a value kind's nominal value.
-VALUE_PARAMS: dict[Kind, str] = {
-    Kind.RESISTOR: "r", Kind.CAPACITOR: "c", Kind.INDUCTOR: "l", Kind.CRYSTAL: "f",
-}
 
 #: Kinds whose value word may be an IEC 60062 marking code: the three-digit capacitor code
 #: (``104`` = 100 nF) and the inductor code (``101`` = 100 µH). Not resistors: a bare

@@ -25,7 +25,7 @@ from typing import TYPE_CHECKING
 
 from stock.errors import ImportFileError, StockError, UnknownPart
 from stock.kinds import FAMILIES, FAMILY_ALIASES, PIN_LETTERS, Bound, Kind, normalise_family
-from stock.params import PARAMS
+from stock.params import PARAMS, VALUE_PARAMS
 from stock.parts import Origin, Param, PartSpec, Stocked, part_key
 
 if TYPE_CHECKING:
@@ -61,9 +61,7 @@ EXTRA_PIN_LETTERS: dict[Kind, str] = {Kind.IC: "IGOA"}
 
 #: The parameter holding a passive part's value. A passive row without it is a
 #: *template*: the family-and-rating figures that a value of that family fills in.
-VALUE_PARAM: dict[Kind, str] = {
-    Kind.CAPACITOR: "c", Kind.RESISTOR: "r", Kind.INDUCTOR: "l", Kind.CRYSTAL: "f",
-}
+VALUE_PARAM = VALUE_PARAMS
 
 
 def is_template(spec: PartSpec) -> bool:

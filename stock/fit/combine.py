@@ -35,6 +35,7 @@ from typing import Any
 
 from stock.errors import FitError
 from stock.kinds import CAPACITOR_CLASS, POLARISED_FAMILIES, Kind, normalise_family
+from stock.params import RLC_PARAMS
 from stock.parts import PartSpec, Stocked
 
 
@@ -61,7 +62,7 @@ class Stacking(StrEnum):
 
 
 #: The value parameter of each kind a combination can be made of.
-VALUE_PARAM: dict[Kind, str] = {Kind.RESISTOR: "r", Kind.CAPACITOR: "c", Kind.INDUCTOR: "l"}
+VALUE_PARAM = RLC_PARAMS
 
 #: Adjustable parts never go into a fixed-value combination.
 _ADJUSTABLE = frozenset({"trimmer", "variable", "potentiometer"})

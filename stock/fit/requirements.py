@@ -18,6 +18,7 @@ from dataclasses import replace
 from stock.fit.checks import DIELECTRIC_RANGE, _ambient_pd
 from stock.fit.text import frac, si
 from stock.kinds import CAPACITOR_CLASS, POLARISED_FAMILIES, Bound, Kind
+from stock.params import RLC_PARAMS
 from stock.parts import PartSpec
 from stock.rules import Policy
 from stock.slots import FREQUENCY_DETERMINING, Op, Requirement, Role, Slot, Source
@@ -35,7 +36,7 @@ _LARGER_OK_C = frozenset({Role.BYPASS, Role.DECOUPLING, Role.COUPLING, Role.RESE
 _MAINS = frozenset({Role.MAINS_X, Role.MAINS_Y})
 _FAST_DIODE_ROLES = frozenset({Role.CLAMP, Role.SWITCH, Role.DETECTOR})
 
-_VALUE_PARAM = {Kind.RESISTOR: "r", Kind.CAPACITOR: "c", Kind.INDUCTOR: "l"}
+_VALUE_PARAM = RLC_PARAMS
 _TOL_RULE = {Kind.RESISTOR: "r_tol_default", Kind.CAPACITOR: "c_tol_default",
              Kind.INDUCTOR: "l_tol_default"}
 

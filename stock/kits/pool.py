@@ -34,6 +34,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from stock.kinds import Kind
+from stock.params import RLC_PARAMS
 from stock.parts import PartSpec, Stocked, part_key
 from stock.slots import Op, Requirement
 
@@ -50,7 +51,7 @@ COMBINE_MOST = 400
 COMBINE_SPAN = 40.0
 
 #: The parameter that holds a value slot's value.
-VALUE_PARAM = {Kind.RESISTOR: "r", Kind.CAPACITOR: "c", Kind.INDUCTOR: "l"}
+VALUE_PARAM = RLC_PARAMS
 
 _SAME_VALUE = 1e-6  # as stock.kits.check: nominal values this close are the same value
 _UNKNOWN = 10.0  # ordering penalty of a part lacking a screened rating (log10 units)

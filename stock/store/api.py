@@ -100,12 +100,7 @@ class Store:
     def save_part(self, spec: PartSpec, *, update: bool = True) -> PartSpec:
         """Create the part, or (``update``) overwrite the fields and parameters it sets."""
         with self.write() as s:
-            pid = repo.part_id(s, spec.number)
-            if pid is None:
-                pid = repo.insert_part(s, spec)
-            elif update:
-                repo.update_part(s, pid, spec)
-            return repo.load_spec(s, pid)
+            return repo.load_spec(s, repo.upsert_part(s, spec, update=update))
 
     def save_and_receive(self, spec: PartSpec, drawer: str, qty: int, *, ref: str = "",
                          note: str = "", key: str | None = None, update: bool = True
@@ -113,11 +108,7 @@ class Store:
         """Create or update ``spec`` and receive ``qty`` into ``drawer``, in one transaction."""
         positive(qty)
         with self.write() as s:
-            pid = repo.part_id(s, spec.number)
-            if pid is None:
-                pid = repo.insert_part(s, spec)
-            elif update:
-                repo.update_part(s, pid, spec)
+            pid = repo.upsert_part(s, spec, update=update)
             did = self._drawer_id(s, drawer, create=True)
             done = ledger.post(s, part_id=pid, drawer_id=did, deltas={Account.ON_HAND: qty},
                                reason=Reason.RECEIVE, ref=ref, note=note, key=key,

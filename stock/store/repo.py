@@ -74,6 +74,16 @@ def update_part(session: Session, pid: int, spec: PartSpec) -> None:
     write_params(session, pid, spec.params, replace=True)
 
 
+def upsert_part(session: Session, spec: PartSpec, *, update: bool = True) -> int:
+    """The id of ``spec``'s part: inserted if new, else (``update``) overwritten by it."""
+    pid = part_id(session, spec.number)
+    if pid is None:
+        return insert_part(session, spec)
+    if update:
+        update_part(session, pid, spec)
+    return pid
+
+
 def load_specs(session: Session, ids: Sequence[int]) -> dict[int, PartSpec]:
     """PartSpecs for part ids, with their parameters, in two queries per 500 ids."""
     out: dict[int, PartSpec] = {}
