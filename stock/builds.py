@@ -310,8 +310,7 @@ def build(store: Store, name: str, copies: int | None = None) -> BuildInfo:
     for is built all the same (the builder found those parts elsewhere); ``BuildInfo``
     before the call tells how many units that was.
     """
-    from stock.store import ledger
-    from stock.store.ledger import Account, Reason
+    from stock.store.ledger import Reason
 
     with store.write() as s:
         row = _row(s, name, lock=True)
@@ -325,19 +324,29 @@ def build(store: Store, name: str, copies: int | None = None) -> BuildInfo:
         if k > left:
             raise BuildError(f"build {name!r} has {left} of {info.copies} copies left to "
                              f"build; ask for {left} or fewer")
-        for sl in info.slots:
-            for h in sl.holds:
-                q = h.units(info.built, k)
-                if q:
-                    ledger.post(s, part_id=store._part_id(s, h.part),
-                                drawer_id=store._drawer_id(s, h.drawer),
-                                deltas={Account.ON_HAND: -q, Account.RESERVED: -q},
-                                reason=Reason.BUILD, ref=name, note=_note(sl),
-                                build_id=row.id, names=(h.part, h.drawer))
+        _post_holds(store, s, info, row.id, k, Reason.BUILD, consume=True)
         row.built = info.built + k
         if row.built == row.copies:
             row.status = "built"
         return _info(row)
+
+
+def _post_holds(store: Store, s: Any, info: BuildInfo, build_id: int, copies: int,
+                reason: Any, *, consume: bool) -> None:
+    """Post the next ``copies`` copies' share of every hold: reserved units go down, and
+    (``consume``) on-hand units with them, as the parts leave the drawers for the build."""
+    from stock.store import ledger
+    from stock.store.ledger import Account
+
+    for sl in info.slots:
+        for h in sl.holds:
+            q = h.units(info.built, copies)
+            if q:
+                deltas = {Account.RESERVED: -q} | ({Account.ON_HAND: -q} if consume else {})
+                ledger.post(s, part_id=store._part_id(s, h.part),
+                            drawer_id=store._drawer_id(s, h.drawer), deltas=deltas,
+                            reason=reason, ref=info.name, note=_note(sl), build_id=build_id,
+                            names=(h.part, h.drawer))
 
 
 def release(store: Store, name: str) -> BuildInfo:
@@ -347,8 +356,7 @@ def release(store: Store, name: str) -> BuildInfo:
     released and the build's status becomes ``released``. A fully built or already
     released build is refused.
     """
-    from stock.store import ledger
-    from stock.store.ledger import Account, Reason
+    from stock.store.ledger import Reason
 
     with store.write() as s:
         row = _row(s, name, lock=True)
@@ -360,14 +368,7 @@ def release(store: Store, name: str) -> BuildInfo:
         if info.status == "released":
             raise BuildError(f"build {name!r} is already released; nothing is held for it")
         left = info.copies - info.built
-        for sl in info.slots:
-            for h in sl.holds:
-                q = h.units(info.built, left)
-                if q:
-                    ledger.post(s, part_id=store._part_id(s, h.part),
-                                drawer_id=store._drawer_id(s, h.drawer),
-                                deltas={Account.RESERVED: -q}, reason=Reason.RELEASE, ref=name,
-                                note=_note(sl), build_id=row.id, names=(h.part, h.drawer))
+        _post_holds(store, s, info, row.id, left, Reason.RELEASE, consume=False)
         row.status = "released"
         return _info(row)
 
