@@ -137,3 +137,21 @@ def test_combinations_when_no_single_part_fits(file_store) -> None:  # type: ign
     for c in combos:
         assert 5600 * 0.98 <= c["low"] <= c["high"] <= 5600 * 1.02
     assert "4k7" in combos[0]["parts"]
+
+
+def test_buy_adds_catalog_parts_after_the_drawers(tmp_path):
+    """--buy ranks reference-catalog parts not in stock, marked 'to buy', after what is in
+    the drawers. 2N3906 and 2N4403 limits: facts.md §4.1 (catalog rows with those sources)."""
+    from tests.clihelp import run
+
+    db = tmp_path / "buy.db"
+    assert run(db, "add", "2N4403", "--qty", "5", "-d", "A3").code == 0
+    r = run(db, "fit", "2N3906", "--role", "switch", "--current", "150mA", "--buy", "--json")
+    assert r.code == 0, r.err
+    cands = r.json()["candidates"]
+    assert cands[0]["part"] == "2N4403" and cands[0]["to_buy"] is False
+    buy = [c["part"] for c in cands if c["to_buy"]]
+    assert "2N3906" in buy  # the called-for part itself is the first thing to buy
+    assert all(c["to_buy"] for c in cands[1:])
+    r = run(db, "fit", "2N3906", "--role", "switch", "--current", "150mA", "--json")
+    assert [c["part"] for c in r.json()["candidates"]] == ["2N4403"]

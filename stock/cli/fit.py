@@ -117,6 +117,8 @@ def fit(
     explain: Annotated[str | None, typer.Option("--explain", metavar="PART",
                                                 help="Show every check for one "
                                                 "candidate.")] = None,
+    buy: Annotated[bool, typer.Option("--buy", help="Also rank reference-catalog parts you "
+                                      "do not have, marked 'to buy'.")] = False,
     limit: Annotated[int, typer.Option(help="How many candidates to list.")] = 20,
     db: DbOpt = None,
     json_out: JsonOpt = False,
@@ -133,6 +135,7 @@ def fit(
       stock fit PN2222A --role pa-c --supply 12V --freq 14MHz --current 100mA
       stock fit 2N7000 --role switch --supply 12V --current 150mA --explain BS170
       stock fit "100p C0G 5%" --role tuned
+      stock fit 2N3906 --role switch --current 150mA --buy
       stock fit npn --kind bjt --role rf-amp --freq 100MHz --need "vceo>=20V" --json
     """
     from stock.catalog import load_catalog
@@ -181,6 +184,9 @@ def fit(
     # failing parts are to be shown)
     sure = () if (show_all or explain) else screen(reqs)
     pool = store.candidates(slot.kind, prefilter, sure)
+    if buy:  # catalog parts not in the drawers: stand-ins to buy (they rank after stock)
+        pool = pool + load_catalog().to_buy(slot.kind, prefilter,
+                                            exclude=[s.part.number for s in pool])
     ranked = assess(slot, pool, policy, need=qty, include_failing=show_all or bool(explain))
     if explain:
         key = part_key(explain)
@@ -219,7 +225,8 @@ def fit(
                 for r in reqs]
     table("requirements", ["param", "bound", "source", "rule", "why"], req_rows)
     rows = [[a.rank, a.part, a.fitness.value, a.dropin.verdict.value, a.stocked.free,
-             ", ".join(d for d, _ in a.stocked.drawers[:3]), _margin(a.smallest_margin),
+             "to buy" if a.stocked.to_buy else ", ".join(d for d, _ in a.stocked.drawers[:3]),
+             _margin(a.smallest_margin),
              _deciding(a)] for a in shown]
     more = len(ranked) - len(shown)
     caption = (f"{more} more: raise --limit" if more > 0 else None)

@@ -1,6 +1,7 @@
 """Verdicts per candidate and the ranking of candidates for one slot.
 
-Order: failing candidates last (shown only when asked), then fewer warnings, then a larger
+Order: failing candidates last (shown only when asked), parts in the drawers before catalog
+parts that would have to be bought, then fewer warnings, then a larger
 smallest margin (margins above ``rank_margin_ample`` all count as ample, in 10 % steps),
 then drop-in before reversed before crossed leads, then enough free quantity, then the
 part fewer other slots could use (``demand``) and the one least over-qualified on scarce
@@ -123,8 +124,10 @@ def sort_key(a: Assessment, need: int, ample: float) -> tuple:
     else:
         band = math.floor(min(a.smallest_margin, ample) * 10 + 1e-9) / 10
     short = 0 if a.stocked.free >= need else 1
-    return (fails, _failure_count(a), a.warnings, -band, DROPIN_ORDER[a.dropin.verdict], short,
-            a.demand, round(a.versatility, 2), a.stocked.to_buy, part_key(a.part))
+    # what is in the drawers comes before what would have to be bought
+    return (fails, a.stocked.to_buy, _failure_count(a), a.warnings, -band,
+            DROPIN_ORDER[a.dropin.verdict], short, a.demand, round(a.versatility, 2),
+            part_key(a.part))
 
 
 def rank(assessments: list[Assessment], *, need: int = 1, ample: float = 0.5,
