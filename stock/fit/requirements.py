@@ -412,6 +412,12 @@ def requirements_for(slot: Slot, policy: Policy) -> list[Requirement]:
     return [r for r in every if _PRIORITY[r.source] == best[_key(r)]]
 
 
+#: Characteristics a store query may screen on when a requirement is a plain ``>=``: a
+#: part whose guaranteed min (or max) lies below it fails for sure, and one that only has
+#: a typical value is kept (the query ignores typical rows).
+SCREENED_CHARS = frozenset({"ft", "srf"})
+
+
 def screen(reqs: list[Requirement]) -> list[Requirement]:
     """The requirements a store query may use to drop candidates before :func:`assess`.
 
@@ -429,6 +435,9 @@ def screen(reqs: list[Requirement]) -> list[Requirement]:
             continue
         if r.param == "family" and r.op is EQ:
             out.append(r)
+            continue
+        if r.param in SCREENED_CHARS and r.op is GE and not isinstance(r.value, str):
+            out.append(r)  # any guaranteed value below the bound means the min is too
             continue
         pdef = PARAMS.get(r.param)
         if pdef is None or pdef.sense is not Sense.RATING or r.op is EQ or \
