@@ -367,20 +367,10 @@ def _rate(topology: Topology, kind: Kind, cands: Sequence[_Cand], *, v_working: 
             fr = _worst_share(topology, kind, cands,
                               lambda vals, i: _voltage_fractions(topology, kind, vals)[i])
             for c, f in zip(cands, fr, strict=True):
-                v_i = f * v_working
-                p = c.stocked.part
-                rated = p.low("v_rated")
-                if rated is None:
-                    notes.append(f"{p.number}: sees up to {fmt_si(v_i, 'V')}; no rated voltage "
-                                 "on record, check its marking")
-                    continue
-                frac, rid = _cap_v_fraction(p.family, policy)
-                allowed = rated.value * frac
-                verdict = "ok" if v_i <= allowed * (1 + _EPS) else "OVER"
-                ok = ok and verdict == "ok"
-                notes.append(f"{p.number}: sees up to {fmt_si(v_i, 'V')} of "
-                             f"{fmt_si(allowed, 'V')} allowed ({fmt_si(rated.value, 'V')} rated "
-                             f"× {frac:g}, {rid}): {verdict}")
+                frac, rid = _cap_v_fraction(c.stocked.part.family, policy)
+                ok = _share_note(notes, c.stocked.part, f * v_working, "v_rated", "V", frac,
+                                 rid, "sees", "no rated voltage on record, check its "
+                                 "marking") and ok
     elif kind is Kind.RESISTOR:
         if power is not None and multi:
             def p_share(vals: list[float], i: int) -> float:
@@ -396,18 +386,9 @@ def _rate(topology: Topology, kind: Kind, cands: Sequence[_Cand], *, v_working: 
             shares = []
         frac = float(policy.get("r_p_fraction_max", _DEFAULTS["r_p_fraction_max"]))
         for c, p_i in zip(cands, shares, strict=False):
-            p = c.stocked.part
-            rated = p.low("p_rated")
-            if rated is None:
-                notes.append(f"{p.number}: dissipates up to {fmt_si(p_i, 'W')}; no power rating "
-                             "on record, check its size")
-                continue
-            allowed = rated.value * frac
-            verdict = "ok" if p_i <= allowed * (1 + _EPS) else "OVER"
-            ok = ok and verdict == "ok"
-            notes.append(f"{p.number}: dissipates up to {fmt_si(p_i, 'W')} of "
-                         f"{fmt_si(allowed, 'W')} allowed ({fmt_si(rated.value, 'W')} rated × "
-                         f"{frac:g}, r_p_fraction_max): {verdict}")
+            ok = _share_note(notes, c.stocked.part, p_i, "p_rated", "W", frac,
+                             "r_p_fraction_max", "dissipates", "no power rating on record, "
+                             "check its size") and ok
         if v_working is not None:
             fr = _worst_share(topology, kind, cands,
                               lambda vals, i: _voltage_fractions(topology, kind, vals)[i])
@@ -663,3 +644,19 @@ def _finish(found: list[tuple[tuple[float, float], Topology, tuple[int, ...]]],
         if len(good) >= limit:
             break
     return (good + bad)[:limit]
+
+
+def _share_note(notes: list[str], p: PartSpec, share: float, rating: str, unit: str,
+                frac: float, rule: str, verb: str, missing: str) -> bool:
+    """Note one part's share (volts across it, watts in it) against its derated rating;
+    False when the share is over what the rule allows. A part with no rating on record
+    gets a note to check it, not a failure."""
+    rated = p.low(rating)
+    if rated is None:
+        notes.append(f"{p.number}: {verb} up to {fmt_si(share, unit)}; {missing}")
+        return True
+    allowed = rated.value * frac
+    verdict = "ok" if share <= allowed * (1 + _EPS) else "OVER"
+    notes.append(f"{p.number}: {verb} up to {fmt_si(share, unit)} of {fmt_si(allowed, unit)} "
+                 f"allowed ({fmt_si(rated.value, unit)} rated × {frac:g}, {rule}): {verdict}")
+    return verdict == "ok"
