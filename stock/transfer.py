@@ -12,8 +12,9 @@ from __future__ import annotations
 
 import gc
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from datetime import datetime
+from functools import lru_cache
 from pathlib import Path
 
 from stock.errors import ImportFileError, StockError
@@ -34,6 +35,19 @@ STOCK_COLUMNS: dict[str, list[str]] = {
     "ref": ["ref", "reference", "order", "supplier ref"],
 }
 REQUIRED = ("number", "qty", "drawer")
+
+
+@lru_cache(maxsize=64)
+def _named_by_number(kind: str) -> bool:
+    """True for kinds called by part number; False for value kinds ("4k7", "100n C0G"),
+    whose name is read for a value, and for a kind that is not one (build_spec says so)."""
+    from stock.kinds import parse_kind
+    from stock.params import VALUE_PARAMS
+
+    try:
+        return parse_kind(kind) not in VALUE_PARAMS
+    except ValueError:
+        return False
 
 
 @dataclass
@@ -102,6 +116,7 @@ def _import_stock(store, path: str | Path, *, mapping: Mapping[str, str] | None,
         known = repo.ids_by_key(s, sorted({part_key(r.cells.get("number", "")) for r in table.rows
                                            if r.cells.get("number")}))
     catalog = load_catalog()
+    shapes: dict[tuple[str, ...], PartSpec] = {}
     specs: dict[str, tuple[PartSpec | None, int, tuple[str, ...]]] = {}
     updates: dict[str, PartSpec] = {}
     entries: list[tuple[str, str, int]] = []
@@ -133,13 +148,23 @@ def _import_stock(store, path: str | Path, *, mapping: Mapping[str, str] | None,
             specs[key] = (None, r.number, described)
             continue
         kind, family, package, pinout, desc, params = described
+        # Rows that describe a part the same way give the same record but for its number,
+        # unless the number itself carries meaning (a catalog entry, a passive's value).
+        alike = described if kind and _named_by_number(kind) and \
+            catalog.get(number) is None else None
         try:
-            spec, _ = build_spec(
-                number, kind=kind or None, family=family or None, package=package or None,
-                pinout=pinout or None, description=desc,
-                params=[p for p in params.split(";") if p.strip()] if params else [],
-                existing=None, catalog=catalog,
-            )
+            if alike is not None and alike in shapes:
+                spec = replace(shapes[alike], number=number, params=list(shapes[alike].params),
+                               attrs=dict(shapes[alike].attrs))
+            else:
+                spec, _ = build_spec(
+                    number, kind=kind or None, family=family or None, package=package or None,
+                    pinout=pinout or None, description=desc,
+                    params=[p for p in params.split(";") if p.strip()] if params else [],
+                    existing=None, catalog=catalog,
+                )
+                if alike is not None:
+                    shapes[alike] = spec
         except StockError as exc:
             column = "params" if params and "param" in str(exc).lower() else (
                 "kind" if "kind" in str(exc) else "family" if "family" in str(exc) else "params"

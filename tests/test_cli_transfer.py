@@ -213,3 +213,19 @@ def test_export_restore_round_trip_is_identical(db, tmp_path, target):
     # restoring into a store that already holds parts is refused
     r = run(db2, "restore", str(out))
     assert r.code == 1 and "empty store" in r.err
+
+
+def test_rows_described_alike_make_separate_parts(db, tmp_path):
+    f = write(tmp_path / "alike.csv", HEADER + "GEN-1,3,A1,bjt,npn,vceo=30V; ft>=100MHz\n"
+              "GEN-2,4,A1,bjt,npn,vceo=30V; ft>=100MHz\nGEN-3,5,A2,bjt,pnp,vceo=30V\n")
+    assert run(db, "import", f).code == 0
+    one = run(db, "show", "GEN-1", "--json").json()["part"]
+    two = run(db, "show", "GEN-2", "--json").json()["part"]
+    three = run(db, "show", "GEN-3", "--json").json()["part"]
+    assert (one["number"], two["number"]) == ("GEN-1", "GEN-2")
+    assert one["params"] == two["params"] and len(one["params"]) == 2
+    assert three["family"] == "pnp" and len(three["params"]) == 1
+    # a later change to one part's record leaves the other alone
+    assert run(db, "add", "GEN-1", "--qty", "1", "-d", "A1", "-p", "vceo=45V").code == 0
+    two = run(db, "show", "GEN-2", "--json").json()["part"]
+    assert {p["name"]: p["value"] for p in two["params"]}["vceo"] == 30.0

@@ -24,7 +24,7 @@ if TYPE_CHECKING:
 
 #: The newest migration. A test checks it against Alembic's head, so that opening an
 #: up-to-date store costs one query and never imports Alembic (~0.9 s here).
-SCHEMA_HEAD = "0002"
+SCHEMA_HEAD = "0003"
 
 #: Where the migration scripts live: ``migrations/`` at the project root.
 MIGRATIONS_DIR = Path(__file__).resolve().parents[2] / "migrations"

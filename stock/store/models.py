@@ -76,8 +76,9 @@ class ParamRow(Base):
 
     __table_args__ = (
         UniqueConstraint("part_id", "name", "bound", "at", name="uq_params_part_name_bound_at"),
-        # parametric search: equality columns first, the compared value last
-        Index("ix_params_name_bound_value", "name", "bound", "value"),
+        # parametric search: equality columns first, the compared value next, and the
+        # part id last so a range read needs nothing but the index (migration 0003)
+        Index("ix_params_name_bound_value", "name", "bound", "value", "part_id"),
         CheckConstraint("bound IN ('min', 'typ', 'max', 'nom')", name="bound"),
     )
 
