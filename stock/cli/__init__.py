@@ -24,16 +24,16 @@ app = typer.Typer(
     context_settings={"help_option_names": ["-h", "--help"]},
 )
 
-# Command modules register themselves on import; keep these imports light.
+# Command modules register themselves on import, in the order `stock --help` lists them;
+# keep these imports light.
+# isort: off
 from stock.cli import inventory as _inventory  # noqa: E402,F401
 from stock.cli import transfer as _transfer  # noqa: E402,F401
-
-for _optional in ("catalog", "fit", "kits", "demo"):
-    try:
-        __import__(f"stock.cli.{_optional}")
-    except ModuleNotFoundError as _exc:  # a command group not written yet
-        if _exc.name != f"stock.cli.{_optional}":
-            raise
+from stock.cli import catalog as _catalog  # noqa: E402,F401
+from stock.cli import fit as _fit  # noqa: E402,F401
+from stock.cli import kits as _kits  # noqa: E402,F401
+from stock.cli import demo as _demo  # noqa: E402,F401
+# isort: on
 
 
 def main() -> None:
