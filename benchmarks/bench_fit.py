@@ -15,7 +15,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from benchmarks.common import median_time, report
+from benchmarks.common import compare, median_time, report
 from benchmarks.generate import generate_store
 
 
@@ -75,8 +75,7 @@ def main(path: Path | None = None) -> bool:
               f"{con.execute('SELECT COUNT(*) FROM parts').fetchone()[0]} parts; "
               f"{ours()} fit")
         t_load = median_time(lambda: store.candidates(Kind.BJT, "npn", sure))
-        t_all = median_time(ours)
-        t_raw = median_time(lambda: raw_fetch(con, bounds))
+        t_all, t_raw = compare(ours, lambda: raw_fetch(con, bounds))
         print(f"split: loading {t_load * 1000:.0f} ms, ranking {(t_all - t_load) * 1000:.0f} ms")
         ok = report("fit PN2222A rf-amp 14 MHz (rank all)", t_all, t_raw, 3.0, "raw SQL")
         within = t_all <= 0.3

@@ -20,7 +20,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from benchmarks.common import median_time, report
+from benchmarks.common import compare, report
 from benchmarks.generate import generate_store
 
 FIND_SQL = """
@@ -55,8 +55,8 @@ def bench_find(tmp: Path) -> bool:
     raw = sqlite3.connect(path)
     rows = raw.execute(FIND_SQL).fetchall()
     assert [r[1] for r in rows] == [s.part.number for s in found], "find and SQL disagree"
-    ours = median_time(lambda: store.find(Kind.BJT, "npn", crit))
-    base = median_time(lambda: raw.execute(FIND_SQL).fetchall())
+    ours, base = compare(lambda: store.find(Kind.BJT, "npn", crit),
+                         lambda: raw.execute(FIND_SQL).fetchall())
     return report("find bjt npn vceo>=30V ft>=100MHz (50 rows)", ours, base, 2.0, "sqlite3")
 
 
@@ -125,8 +125,7 @@ def bench_import(tmp: Path) -> bool:
     def base() -> None:
         _baseline_import(csv_path, fresh())
 
-    t_ours = median_time(ours, repeat=3)
-    t_base = median_time(base, repeat=3)
+    t_ours, t_base = compare(ours, base, repeat=3)
     return report("import 50,000-row CSV (all-or-nothing)", t_ours, t_base, 2.0,
                   "read_csv+executemany")
 
@@ -140,8 +139,8 @@ def bench_help() -> bool:
     def base() -> None:
         subprocess.run([sys.executable, "-c", "import typer"], check=True, capture_output=True)
 
-    return report("stock --help start-up", median_time(ours, 11), median_time(base, 11), 1.5,
-                  "import typer")
+    t_ours, t_base = compare(ours, base, repeat=11)
+    return report("stock --help start-up", t_ours, t_base, 1.5, "import typer")
 
 
 def main() -> None:

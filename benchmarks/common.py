@@ -30,3 +30,21 @@ def report(name: str, ours: float, baseline: float, target: float, baseline_name
     print(f"{name:<44} {ours * 1000:9.1f} ms   {baseline_name} {baseline * 1000:9.1f} ms   "
           f"ratio {ratio:5.2f}  (target ≤ {target:g}×)  {'ok' if ok else 'MISSED'}")
     return ok
+
+
+def compare(ours: Callable[[], object], base: Callable[[], object], repeat: int = 7,
+            warmup: int = 1) -> tuple[float, float]:
+    """Median times of ``ours`` and ``base``, run alternately so that a change in the
+    machine's load during the run falls on both alike."""
+    for _ in range(warmup):
+        ours()
+        base()
+    a, b = [], []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        ours()
+        a.append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        base()
+        b.append(time.perf_counter() - t0)
+    return statistics.median(a), statistics.median(b)
