@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import gc
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from datetime import datetime
 from functools import lru_cache
 from pathlib import Path
@@ -154,8 +154,9 @@ def _import_stock(store, path: str | Path, *, mapping: Mapping[str, str] | None,
             catalog.get(number) is None else None
         try:
             if alike is not None and alike in shapes:
-                spec = replace(shapes[alike], number=number, params=list(shapes[alike].params),
-                               attrs=dict(shapes[alike].attrs))
+                t = shapes[alike]
+                spec = PartSpec(number, t.kind, t.family, t.package, t.pinout, t.description,
+                                dict(t.attrs), list(t.params), t.source)
             else:
                 spec, _ = build_spec(
                     number, kind=kind or None, family=family or None, package=package or None,
