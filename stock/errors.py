@@ -69,6 +69,10 @@ class KitFileError(StockError, ValueError):
     """A kit file is malformed; the message names the file and line."""
 
 
+class UnknownName(StockError, ValueError):
+    """A kind, family or parameter name that is not one of ours; the message lists them."""
+
+
 class ConfigError(StockError, ValueError):
     """The config file or a policy override is malformed."""
 

@@ -8,6 +8,8 @@ from __future__ import annotations
 from enum import StrEnum
 from functools import lru_cache
 
+from stock.errors import UnknownName
+
 
 class Kind(StrEnum):
     """What sort of part a part type is."""
@@ -131,7 +133,7 @@ def parse_kind(text: str) -> Kind:
         return Kind(key)
     except ValueError:
         choices = ", ".join(k.value for k in Kind)
-        raise ValueError(f"unknown kind {text!r}; use one of: {choices}") from None
+        raise UnknownName(f"unknown kind {text!r}; use one of: {choices}") from None
 
 
 @lru_cache(maxsize=1024)
@@ -143,7 +145,7 @@ def normalise_family(kind: Kind, text: str | None) -> str | None:
     key = FAMILY_ALIASES.get(key, key)
     allowed = FAMILIES[kind]
     if allowed and key not in allowed:
-        raise ValueError(
+        raise UnknownName(
             f"unknown {kind.value} family {text!r}; use one of: {', '.join(allowed)}"
         )
     return key

@@ -154,9 +154,9 @@ def param_def(name: str) -> ParamDef:
     try:
         return PARAMS[key]
     except KeyError:
-        from stock.errors import suggest
+        from stock.errors import UnknownName, suggest
 
-        raise ValueError(
+        raise UnknownName(
             f"unknown parameter {name!r}{suggest(key, list(PARAMS))}; "
             "see 'stock params' for the list"
         ) from None

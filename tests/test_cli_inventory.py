@@ -162,3 +162,13 @@ def test_a_value_part_name_carries_family_and_rating(db):
     ps = {(p["name"], p["bound"]): p["value"] for p in part["params"]}
     assert part["family"] == "c0g"
     assert ps[("c", "nom")] == pytest.approx(100e-9) and ps[("v_rated", "max")] == 50.0
+
+
+def test_find_takes_a_bound_without_a_kind_and_names_unknown_kinds(db):
+    run(db, "add", "PN2222A", "--qty", "4", "-d", "A2")
+    r = run(db, "find", "vceo>=30V", "--json")
+    assert r.code == 0 and [x["part"]["number"] for x in r.json()] == ["PN2222A"]
+    r = run(db, "find", "transistorz")
+    assert r.code == 1 and "unknown kind 'transistorz'" in r.err and "Traceback" not in r.err
+    r = run(db, "add", "XX", "--kind", "gizmo", "--qty", "1", "-d", "A1")
+    assert r.code == 1 and "use one of: bjt" in r.err

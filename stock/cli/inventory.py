@@ -168,6 +168,8 @@ def find(
     from stock.kinds import normalise_family, parse_kind
     from stock.paramtext import parse_criterion
 
+    if kind and any(ch in kind for ch in "<>=~"):  # a bound given without a kind
+        criteria, kind = [kind, *(criteria or [])], None
     k = parse_kind(kind) if kind else None
     fam = normalise_family(k, family) if (k and family) else family
     crit = [parse_criterion(c, k) for c in criteria or []]
