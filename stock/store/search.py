@@ -163,16 +163,15 @@ def load_candidates(session: Session, kind: Kind, family: str | None = None,
     table over the screened ids, no per-part round trips.
     """
     ids = screened(kind, family, screen).subquery()
-    conn = session.connection()  # Core rows: the ORM's row processing is not needed here
     conditions: dict[str, Mapping[str, float]] = {"": _NO_CONDITIONS}
     specs: dict[int, PartSpec] = {}
-    for pid, number, fam, package, pinout, desc, attrs, source in conn.execute(
+    for pid, number, fam, package, pinout, desc, attrs, source in raw_rows(session,
             select(Part.id, Part.number, Part.family, Part.package, Part.pinout,
                    Part.description, Part.attrs, Part.source)
             .where(Part.id.in_(select(ids.c.part_id))).order_by(Part.id)):
         specs[pid] = PartSpec(number, kind, fam, package, pinout, desc or "",
                               json.loads(attrs) if attrs and attrs != "{}" else {}, [], source)
-    for pid, name, bound, value, at, origin in conn.execute(
+    for pid, name, bound, value, at, origin in raw_rows(session,
             select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value, ParamRow.at,
                    ParamRow.origin)
             .where(ParamRow.part_id.in_(select(ids.c.part_id))).order_by(ParamRow.id)):
@@ -181,7 +180,7 @@ def load_candidates(session: Session, kind: Kind, family: str | None = None,
             at_map = conditions[at] = MappingProxyType(json.loads(at))  # shared: read-only
         specs[pid].params.append(Param(name, _BOUNDS[bound], value, at_map, _ORIGINS[origin]))
     where: dict[int, list[tuple[str, int]]] = {pid: [] for pid in specs}
-    for pid, label, free in conn.execute(
+    for pid, label, free in raw_rows(session,
             select(Balance.part_id, Drawer.label, Balance.on_hand - Balance.reserved)
             .join(Drawer, Drawer.id == Balance.drawer_id)
             .where(Balance.part_id.in_(select(ids.c.part_id)),
