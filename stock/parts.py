@@ -9,6 +9,8 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from enum import StrEnum
+from types import MappingProxyType
+from typing import NamedTuple
 
 from stock.kinds import Bound, Kind
 from stock.params import PARAMS, Sense
@@ -22,14 +24,21 @@ class Origin(StrEnum):
     IMPORT = "import"
 
 
-@dataclass(frozen=True)
-class Param:
-    """One parameter value: ``hfe`` ``min`` 100 at IC = 0.15 A, VCE = 10 V."""
+#: No test conditions (shared and read-only).
+NO_CONDITIONS: Mapping[str, float] = MappingProxyType({})
+
+
+class Param(NamedTuple):
+    """One parameter value: ``hfe`` ``min`` 100 at IC = 0.15 A, VCE = 10 V.
+
+    An immutable record (a named tuple: the store builds tens of thousands of these for
+    one ranking, and a tuple is made several times faster than a frozen dataclass).
+    """
 
     name: str
     bound: Bound
     value: float
-    at: Mapping[str, float] = field(default_factory=dict)  # test conditions, SI
+    at: Mapping[str, float] = NO_CONDITIONS  # test conditions, SI
     origin: Origin = Origin.USER
 
 

@@ -96,17 +96,17 @@ def slot_result(sc: "SlotCheck") -> tuple[str, list[str]]:
     for a in sc.allocations:
         if not a.exact:
             by_part.setdefault(a.part, []).append((a.drawer, a.qty))
-    assessed = {a.part: a for a in sc.stand_ins}
+    assessed = {s.part: s for s in sc.stand_ins}
     for part, where in by_part.items():
-        a = assessed.get(part)
-        if a is None:
+        st = assessed.get(part)
+        if st is None:
             lines.append(f"stand-in {part}: {_where(where)}")
             continue
-        warn = f", {a.warnings} warning{'s' if a.warnings != 1 else ''}" if a.warnings else ""
-        deciding = a.deciding
-        why = f" ({deciding.param}: {deciding.why})" if a.warnings and deciding else ""
-        lines.append(f"stand-in {part}: {_where(where)}; {a.fitness.value}, "
-                     f"{_margin(a.smallest_margin)}{warn}; {a.dropin.verdict.value}{why}")
+        warn = f", {st.warnings} warning{'s' if st.warnings != 1 else ''}" if st.warnings else ""
+        deciding = st.deciding
+        why = f" ({deciding.param}: {deciding.why})" if st.warnings and deciding else ""
+        lines.append(f"stand-in {part}: {_where(where)}; {st.fitness.value}, "
+                     f"{_margin(st.smallest_margin)}{warn}; {st.dropin.verdict.value}{why}")
     word = "stand-in" if by_part else "in stock"
     if sc.short:
         if sc.combinations:

@@ -228,7 +228,7 @@ def raw_rows(session: Session, stmt: Any) -> list[tuple[Any, ...]]:
     cur = conn.connection.dbapi_connection.cursor()  # type: ignore[union-attr]
     try:
         cur.execute(sql)
-        return cur.fetchall()
+        return list(cur.fetchall())
     finally:
         cur.close()
 
