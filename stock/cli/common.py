@@ -22,6 +22,8 @@ DbOpt = Annotated[
 ]
 JsonOpt = Annotated[bool, typer.Option("--json",
                                        help="Print JSON (stable shape) instead of a table.")]
+KeyOpt = Annotated[str | None, typer.Option(
+    "--key", help="Idempotency key: a second call with the same key records nothing.")]
 DryRunOpt = Annotated[bool, typer.Option("--dry-run", help="Check everything, write nothing.")]
 CopiesOpt = Annotated[int, typer.Option("--copies", "-n", min=1,
                                         help="How many copies of the kit.")]

@@ -6,7 +6,7 @@ from typing import Annotated
 import typer
 
 from stock.cli import app
-from stock.cli.common import DbOpt, JsonOpt, emit_json, open_db, say, table
+from stock.cli.common import DbOpt, JsonOpt, KeyOpt, emit_json, open_db, say, table
 from stock.cli.render import holding_json, param_rows, part_json, stocked_row
 
 
@@ -37,8 +37,7 @@ def add(
         "--param", "-p", help="A parameter, e.g. vceo=40V, 'ft>=300MHz', "
         "'hfe=100..300@ic=150mA,vce=10V' (repeat).")] = None,
     ref: Annotated[str, typer.Option(help="Reference: order number, supplier note.")] = "",
-    key: Annotated[str | None, typer.Option(help="Idempotency key: a second add with the "
-                                            "same key records nothing.")] = None,
+    key: KeyOpt = None,
     no_catalog: Annotated[bool, typer.Option("--no-catalog", help="Do not fill parameters "
                                              "from the reference catalog.")] = False,
     db: DbOpt = None,
@@ -195,7 +194,7 @@ def move(
     qty: Annotated[int, typer.Argument(help="How many.")],
     src: Annotated[str, typer.Argument(metavar="FROM", help="Drawer to take them from.")],
     dst: Annotated[str, typer.Argument(metavar="TO", help="Drawer to put them in.")],
-    key: Annotated[str | None, typer.Option(help="Idempotency key.")] = None,
+    key: KeyOpt = None,
     db: DbOpt = None,
 ) -> None:
     """Move free parts from one drawer to another.
@@ -212,7 +211,7 @@ def take(
     qty: Annotated[int, typer.Argument(help="How many.")],
     drawer: Annotated[str, typer.Option("--drawer", "-d", help="Drawer to take them from.")],
     note: Annotated[str, typer.Option(help="Why: repair job, lost, given away.")] = "",
-    key: Annotated[str | None, typer.Option(help="Idempotency key.")] = None,
+    key: KeyOpt = None,
     db: DbOpt = None,
 ) -> None:
     """Take free parts out of a drawer (used outside a build, lost, given away).
