@@ -179,6 +179,9 @@ def _import_stock(store, path: str | Path, *, mapping: Mapping[str, str] | None,
     res.parts_known = len(specs) - len(new_specs)
     res.units = sum(q for _, _, q in entries)
     if dry_run:
+        labels = sorted({d for _, d, _ in entries})
+        with store.read() as s:
+            res.drawers_created = len(labels) - len(_existing_drawers(s, labels))
         return res
     with store.write() as s:
         ids = dict(known)
@@ -194,8 +197,9 @@ def _import_stock(store, path: str | Path, *, mapping: Mapping[str, str] | None,
     return res
 
 
-def _drawers(s, labels: list[str]) -> tuple[dict[str, int], int]:  # type: ignore[no-untyped-def]
-    from sqlalchemy import insert, select
+def _existing_drawers(s, labels: list[str]) -> dict[str, int]:  # type: ignore[no-untyped-def]
+    """{label: id} of the drawers among ``labels`` that exist."""
+    from sqlalchemy import select
 
     from stock.store.models import Drawer
 
@@ -203,6 +207,15 @@ def _drawers(s, labels: list[str]) -> tuple[dict[str, int], int]:  # type: ignor
     for i in range(0, len(labels), 500):
         have.update((a, int(b)) for a, b in s.execute(
             select(Drawer.label, Drawer.id).where(Drawer.label.in_(labels[i : i + 500]))))
+    return have
+
+
+def _drawers(s, labels: list[str]) -> tuple[dict[str, int], int]:  # type: ignore[no-untyped-def]
+    from sqlalchemy import insert, select
+
+    from stock.store.models import Drawer
+
+    have = _existing_drawers(s, labels)
     missing = [lab for lab in labels if lab not in have]
     if missing:
         s.execute(insert(Drawer), [dict(label=lab, parent_id=None, note="") for lab in missing])

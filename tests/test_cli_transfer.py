@@ -229,3 +229,11 @@ def test_rows_described_alike_make_separate_parts(db, tmp_path):
     assert run(db, "add", "GEN-1", "--qty", "1", "-d", "A1", "-p", "vceo=45V").code == 0
     two = run(db, "show", "GEN-2", "--json").json()["part"]
     assert {p["name"]: p["value"] for p in two["params"]}["vceo"] == 30.0
+
+
+def test_dry_run_counts_the_drawers_it_would_make(db, tmp_path):
+    run(db, "drawer", "A1")
+    f = write(tmp_path / "d.csv", HEADER + "PN2222A,2,A1,,,\n1N4148,5,D9,,,\n")
+    r = run(db, "import", f, "--dry-run", "--json")
+    assert r.json()["drawers_created"] == 1
+    assert run(db, "import", f, "--json").json()["drawers_created"] == 1

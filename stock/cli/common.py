@@ -73,7 +73,8 @@ def table(title: str | None, columns: list[str], rows: list[list[Any]],
     from rich.table import Table
 
     if not rows:
-        console().print(f"{title}: nothing to show" if title else "nothing to show")
+        console().print((f"{title}: nothing to show" if title else "nothing to show")
+                        + (f" ({caption})" if caption else ""))
         return
     t = Table(title=title, caption=caption, title_justify="left", header_style="bold")
     for c in columns:

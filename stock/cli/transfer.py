@@ -116,7 +116,7 @@ def export(
     from stock.transfer import export_store
 
     counts = export_store(open_db(db), target)
-    say(f"exported to {target}: " + ", ".join(f"{n} {k}" for k, n in counts.items()))
+    say(f"exported to {target}: {_counted(counts)}")
 
 
 @app.command()
@@ -132,4 +132,10 @@ def restore(
     from stock.transfer import restore_store
 
     counts = restore_store(open_db(db), source)
-    say(f"restored from {source}: " + ", ".join(f"{n} {k}" for k, n in counts.items()))
+    say(f"restored from {source}: {_counted(counts)}")
+
+
+def _counted(counts: dict[str, int]) -> str:
+    """'12 parts, 1 drawer, ...' (the table names are plural)."""
+    return ", ".join(f"{n} {name if n != 1 else name.removesuffix('s')}"
+                     for name, n in counts.items())
