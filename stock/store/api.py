@@ -6,7 +6,6 @@ Every method that changes anything runs in one write transaction and goes throug
 
 from __future__ import annotations
 
-import json
 from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -364,10 +363,6 @@ def open_store(db: str | None = None) -> Store:
     from stock.config import db_url
 
     return Store(db_url(db))
-
-
-def attrs_of(part: Part) -> dict[str, str]:
-    return json.loads(part.attrs or "{}")
 
 
 __all__ = ["Holding", "LogEntry", "Store", "open_store", "part_key"]

@@ -112,20 +112,6 @@ def search(session: Session, kind: Kind | None, family: str | None,
     return [(int(r[0]), int(r[1])) for r in session.execute(stmt)]
 
 
-def free_parts(session: Session, kind: Kind, family: str | None = None) -> list[tuple[int, int]]:
-    """(part id, free) of every part of ``kind`` (and ``family``) with free stock."""
-    stmt = (
-        select(Balance.part_id, func.sum(Balance.on_hand - Balance.reserved))
-        .join(Part, Part.id == Balance.part_id)
-        .where(Part.kind == Kind(kind).value, Balance.on_hand > Balance.reserved)
-        .group_by(Balance.part_id)
-        .order_by(Balance.part_id)
-    )
-    if family:
-        stmt = stmt.where(Part.family == family)
-    return [(int(a), int(b)) for a, b in session.execute(stmt)]
-
-
 
 
 _BOUNDS = {b.value: b for b in Bound}
