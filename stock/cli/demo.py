@@ -15,8 +15,9 @@ import typer
 from stock.cli import app
 from stock.cli.common import say
 
-#: The demo scenario: seeds_demo/ at the project root (an invented club, vendors, kits).
-SEEDS = Path(__file__).resolve().parents[2] / "seeds_demo"
+#: The demo scenario: seeds_demo/ at the project root (an invented club and its kits),
+#: reached through the package's ``stock/seeds_demo`` link so a wheel carries it too.
+SEEDS = Path(__file__).resolve().parents[1] / "seeds_demo"
 
 
 def steps(db: str) -> list[tuple[str, list[str]]]:

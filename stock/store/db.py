@@ -26,8 +26,10 @@ if TYPE_CHECKING:
 #: up-to-date store costs one query and never imports Alembic (~0.9 s here).
 SCHEMA_HEAD = "0003"
 
-#: Where the migration scripts live: ``migrations/`` at the project root.
-MIGRATIONS_DIR = Path(__file__).resolve().parents[2] / "migrations"
+#: Where the migration scripts live: ``migrations/`` at the project root, reached through
+#: the package's ``stock/migrations`` link, so a wheel (which copies the scripts into the
+#: package) finds them as well as a checkout does.
+MIGRATIONS_DIR = Path(__file__).resolve().parents[1] / "migrations"
 
 BUSY_TIMEOUT_MS = 10_000  # wait this long for another writer before "database is locked"
 
