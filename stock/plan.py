@@ -506,7 +506,8 @@ def explain(plan: Plan, demands: Sequence[Demand], supplies: Sequence[Supply],
             if by_demand[d.key]:
                 why = "no free part that fits is left"
             else:
-                why = "nothing in stock fits"
+                # (a combination of two or three parts may still make it: see the check)
+                why = "no single part in stock fits"
             notes.append(f"{d.name}: {plan.short[d.key]} short ({why})")
     return notes
 
