@@ -1,6 +1,6 @@
 """How fast the combination search answers over a large stock.
 
-Run: ``python benchmarks/bench_combine.py``. It builds a stock of 5,000 distinct resistor
+Run: ``python -m benchmarks.bench_combine``. It builds a stock of 5,000 distinct resistor
 values (log-uniform over 1 Ω … 10 MΩ, ±1 % or ±5 %, a fixed seed, so every run sees the
 same data), then times :func:`stock.fit.combine.find_combinations` for several targets that
 are not in stock. The goal is an answer within 1 s. Machines differ, so it also times a
@@ -14,13 +14,12 @@ Prints only; asserts nothing (tests never assert wall-clock times).
 from __future__ import annotations
 
 import random
-import statistics
 import sys
-import time
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
+from benchmarks.common import median_time  # noqa: E402
 from stock.fit.combine import find_combinations  # noqa: E402
 from stock.kinds import Bound, Kind  # noqa: E402
 from stock.parts import Param, PartSpec, Stocked  # noqa: E402
@@ -43,12 +42,8 @@ def make_stock(n: int, seed: int = 60063) -> list[Stocked]:
 
 
 def timed(fn, repeat: int = 5) -> float:
-    runs = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        runs.append(time.perf_counter() - t0)
-    return statistics.median(runs)
+    """Median seconds of ``fn`` (no warm-up run: the first call is part of what is timed)."""
+    return median_time(fn, repeat=repeat, warmup=0)
 
 
 def main() -> None:

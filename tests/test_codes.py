@@ -4,9 +4,7 @@ published tables: tests/data/marking_codes.csv, eia96_codes.csv, tolerance_lette
 
 from __future__ import annotations
 
-import csv
 import math
-from pathlib import Path
 
 import pytest
 
@@ -21,14 +19,7 @@ from stock.quantities import (
     parse_value,
 )
 from stock.quantities.codes import tolerance_letter
-
-DATA = Path(__file__).parent / "data"
-
-
-def rows(name: str) -> list[dict[str, str]]:
-    with open(DATA / name, newline="", encoding="utf-8") as f:
-        return list(csv.DictReader(f))
-
+from tests.reference import rows
 
 PARSERS = {
     "rkm_ohm": (lambda t: parse_rkm(t, "Ω"), "Ω", Kind.RESISTOR),

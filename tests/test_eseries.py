@@ -4,9 +4,7 @@ tests/data/eseries_lookups.csv."""
 
 from __future__ import annotations
 
-import csv
 import math
-from pathlib import Path
 
 import eseries as ref  # test-only independent check (PyPI "eseries")
 import pytest
@@ -23,13 +21,7 @@ from stock.quantities import (
     series_of,
     values_between,
 )
-
-DATA = Path(__file__).parent / "data"
-
-
-def rows(name: str) -> list[dict[str, str]]:
-    with open(DATA / name, newline="", encoding="utf-8") as f:
-        return list(csv.DictReader(f))
+from tests.reference import rows
 
 
 @pytest.mark.parametrize("row", rows("eseries_iec60063.csv"), ids=lambda r: r["series"])

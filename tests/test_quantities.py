@@ -4,10 +4,8 @@ the `quantiphy` PyPI package (test-only) and with Hypothesis round trips."""
 
 from __future__ import annotations
 
-import csv
 import math
 from dataclasses import FrozenInstanceError
-from pathlib import Path
 
 import pytest
 from hypothesis import given, settings
@@ -25,14 +23,7 @@ from stock.quantities import (
     render,
     render_tol,
 )
-
-DATA = Path(__file__).parent / "data"
-
-
-def rows(name: str) -> list[dict[str, str]]:
-    with open(DATA / name, newline="", encoding="utf-8") as f:
-        return list(csv.DictReader(f))
-
+from tests.reference import rows
 
 CASES = rows("notation_cases.csv")
 
