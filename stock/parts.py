@@ -115,6 +115,20 @@ class PartSpec:
             return Guaranteed(typ[0].value, Bound.TYP, False, typ[0])
         return None
 
+    def param_groups(self) -> Mapping[str, str] | None:
+        """Parameter name → a text that is equal for two parts exactly when their values
+        of that name are, or None when the record has no such cheap key (a record built
+        in memory). The fit engine keys its memo of checks on these; records read from
+        the store have them (:class:`stock.store.paramdoc.StoredPart`)."""
+        return None
+
+    def partial(self, names: Iterable[str]) -> PartSpec:
+        """The same record with only the parameters named in ``names``."""
+        keep = set(names)
+        return PartSpec(self.number, self.kind, self.family, self.package, self.pinout,
+                        self.description, self.attrs,
+                        [p for p in self.params if p.name in keep], self.source)
+
     def with_params(self, params: Iterable[Param]) -> PartSpec:
         """A copy where ``params`` replace values of the same name and bound."""
         new = {(p.name, p.bound): p for p in params}

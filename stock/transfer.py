@@ -10,7 +10,6 @@
 
 from __future__ import annotations
 
-import gc
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from datetime import datetime
@@ -18,6 +17,7 @@ from functools import lru_cache
 from pathlib import Path
 
 from stock.errors import ImportFileError, StockError
+from stock.gcpause import cycle_collector_paused
 from stock.parts import PartSpec, part_key
 
 #: Canonical stock-list columns and the header spellings accepted for each.
@@ -77,14 +77,9 @@ def import_stock(store, path: str | Path, *, mapping: Mapping[str, str] | None =
     """Import a stock list into ``store`` all-or-nothing (see the module docstring)."""
     # A stock list makes hundreds of thousands of small objects that live to the end of
     # the import; the cycle collector would walk them again and again for nothing.
-    was_enabled = gc.isenabled()
-    gc.disable()
-    try:
+    with cycle_collector_paused():
         return _import_stock(store, path, mapping=mapping, sheet=sheet, dry_run=dry_run,
                              keep_duplicates=keep_duplicates, progress=progress)
-    finally:
-        if was_enabled:
-            gc.enable()
 
 
 def _import_stock(store, path: str | Path, *, mapping: Mapping[str, str] | None,  # type: ignore[no-untyped-def]
@@ -325,6 +320,7 @@ def restore_store(store, path: str | Path) -> dict[str, int]:  # type: ignore[no
     from sqlalchemy import func, insert, select
 
     from stock.store.models import Balance, Build, Drawer, Movement, ParamRow, Part
+    from stock.store.repo import refresh_docs
 
     p = Path(path)
     data = _read_export(p)
@@ -345,6 +341,7 @@ def restore_store(store, path: str | Path) -> dict[str, int]:  # type: ignore[no
                                               bound=r["bound"], value=float(r["value"]),
                                               at=r["at"], origin=r["origin"])
                                          for r in data["params"]])
+            refresh_docs(s, sorted(part_ids.values()))
         for r in data["drawers"]:  # in export order, so a cabinet exists before its drawers
             parent = None
             if r["cabinet"]:

@@ -728,6 +728,29 @@ def check_one(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> C
     return check
 
 
+def reads(req: Requirement) -> tuple[str, ...] | None:
+    """The parameters :func:`check_one` reads for ``req`` besides the part's kind and
+    family, or None when it reads more of the record (attributes, a crystal's figures).
+
+    The fit engine shares one check among candidates that are equal in these, so this
+    must follow :func:`check_one`'s dispatch: naming more than it reads is safe (fewer
+    shared checks), naming less is a wrong answer. ``tests/test_fit_memo.py`` holds the
+    shared checks against direct ones over the catalog.
+    """
+    param = req.param
+    if param in ("family", "dielectric", "polarised"):
+        return ()
+    if param == "safety" or param == "f" or isinstance(req.value, str):
+        return None  # attributes; a crystal's frequency reads its motional figures too
+    if param == "id":
+        return ("id", "idss")  # a JFET's drain current is IDSS
+    if param == "pd":
+        return ("pd", "tj", "rth_ja")  # derated to the ambient
+    if param == "vceo" and req.rule in _SWING_RULES:
+        return ("vceo", "vcer")
+    return (param,)
+
+
 def check_part(part: PartSpec, slot: Slot, reqs: list[Requirement], policy: Policy
                ) -> list[Check]:
     """Every requirement of a slot held against one candidate part."""

@@ -7,15 +7,15 @@ by kind and family there first), a :class:`~stock.slots.Slot` and a
 
 from __future__ import annotations
 
-import gc
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from typing import Any
 
 from stock.errors import NotationError, UnknownPart
-from stock.fit.checks import Verdict, check_one, check_part
-from stock.fit.dropin import dropin
-from stock.fit.rank import Assessment, fitness_of, rank, versatility
+from stock.fit.checks import Check, Verdict, check_one, reads
+from stock.fit.dropin import DropIn, dropin
+from stock.fit.rank import Assessment, fitness_of, rank, surplus
 from stock.fit.requirements import requirements_for
+from stock.gcpause import cycle_collector_paused
 from stock.kinds import FAMILIES, Kind, normalise_family, parse_kind
 from stock.parts import PartSpec, Stocked
 from stock.rules import Policy
@@ -46,43 +46,73 @@ def assess(slot: Slot, candidates: Iterable[Stocked], policy: Policy, *, need: i
     elif called is None and (board_pkg or board_pins):
         called = PartSpec(slot.calls_for, slot.kind, None, board_pkg, board_pins)
     out: list[Assessment] = []
-    # The loop allocates small, acyclic objects by the hundred thousand; the cyclic
-    # garbage collector would rescan the whole heap (the candidate records) many times
-    # over for nothing, doubling the time. Reference counting frees them all.
-    gc_was_on = gc.isenabled()
-    gc.disable()
-    try:
+    with cycle_collector_paused():  # small acyclic objects by the hundred thousand
         _assess_into(out, slot, candidates, reqs, called, policy, include_failing)
-    finally:
-        if gc_was_on:
-            gc.enable()
     return rank(out, need=need, ample=policy["rank_margin_ample"], demand=demand)
+
+
+class _SharedChecks:
+    """One requirement held against a pool, each check built once and shared among the
+    candidates equal in what it reads (:func:`stock.fit.checks.reads`): in a large
+    store most candidates share their ratings with many others. Checks are read-only,
+    so sharing them is safe; a candidate without cheap keys is checked directly.
+
+    :meth:`check` gives the check and its share of the candidate's versatility."""
+
+    __slots__ = ("req", "slot", "policy", "names", "one", "memo")
+
+    def __init__(self, req: Requirement, slot: Slot, policy: Policy) -> None:
+        self.req, self.slot, self.policy = req, slot, policy
+        self.names = reads(req)
+        self.one = self.names[0] if self.names is not None and len(self.names) == 1 else None
+        self.memo: dict[tuple, tuple[Check, float]] = {}
+
+    def check(self, part: PartSpec, groups: Mapping[str, str] | None) -> tuple[Check, float]:
+        names = self.names
+        if names is None or groups is None:
+            c = check_one(part, self.req, self.slot, self.policy)
+            return c, surplus(c)
+        # kind is the slot's for every candidate; family is read by several checks
+        one = self.one
+        key = (part.family, groups.get(one)) if one is not None else \
+            (part.family, *[groups.get(n) for n in names])
+        hit = self.memo.get(key)
+        if hit is None:
+            c = check_one(part.partial(names), self.req, self.slot, self.policy)
+            hit = self.memo[key] = (c, surplus(c))
+        return hit
 
 
 def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked],
                  reqs: list[Requirement], called: PartSpec | None, policy: Policy,
                  include_failing: bool) -> None:
+    shared = [_SharedChecks(req, slot, policy) for req in reqs]
+    dropins: dict[tuple[str | None, str | None], DropIn] = {}
+    fail = Verdict.FAIL
     for s in candidates:
         part = s.part
         if part.kind is not slot.kind:
             continue
-        if include_failing:
-            checks = check_part(part, slot, reqs, policy)
-        else:
-            # stop at the first failure: most of a large pool fails something early
-            checks = []
-            for req in reqs:
-                c = check_one(part, req, slot, policy)
-                if c.verdict is Verdict.FAIL:
-                    break
-                checks.append(c)
-            else:
-                c = None
-            if c is not None:
-                continue
+        groups = part.param_groups()
+        checks = []
+        failed = False
+        vers = 0.0
+        for sc in shared:
+            c, v = sc.check(part, groups)
+            if c.verdict is fail:
+                failed = True
+                if not include_failing:
+                    break  # most of a large pool fails something early
+            checks.append(c)
+            vers += v
+        if failed and not include_failing:
+            continue
         fit, warnings, smallest = fitness_of(checks)
-        out.append(Assessment(s, checks, fit, dropin(called, part), smallest, warnings,
-                              versatility=versatility(checks)))
+        where = (part.package, part.pinout)
+        d = dropins.get(where)
+        if d is None:
+            d = dropins[where] = dropin(called, part)
+        out.append(Assessment(s, checks, fit, d, smallest, warnings, versatility=vers))
 
 
 def _num(v: Any) -> Any:

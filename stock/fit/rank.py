@@ -10,7 +10,6 @@ capabilities (fT, voltage), so the one UHF transistor is not spent on an audio s
 
 from __future__ import annotations
 
-import gc
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -18,6 +17,7 @@ from enum import StrEnum
 
 from stock.fit.checks import Check, Verdict
 from stock.fit.dropin import DROPIN_ORDER, DropIn
+from stock.gcpause import cycle_collector_paused
 from stock.parts import Stocked, part_key
 from stock.slots import Op
 
@@ -107,13 +107,16 @@ def _failure_count(a: Assessment) -> int:
 def versatility(checks: list[Check]) -> float:
     """Weighted sum of log10(actual/required) over scarce ``>=`` checks: how far a part is
     over-qualified for this slot (0 = just meets it)."""
-    total = 0.0
-    for c in checks:
-        if c.param in SCARCE and c.op is Op.GE and \
-                isinstance(c.actual, float | int) and isinstance(c.required_value, float | int) \
-                and c.required_value > 0 and c.actual > c.required_value:
-            total += SCARCE[c.param] * math.log10(c.actual / c.required_value)
-    return total
+    return sum(map(surplus, checks))
+
+
+def surplus(c: Check) -> float:
+    """One check's share of :func:`versatility`."""
+    if c.param in SCARCE and c.op is Op.GE and \
+            isinstance(c.actual, float | int) and isinstance(c.required_value, float | int) \
+            and c.required_value > 0 and c.actual > c.required_value:
+        return SCARCE[c.param] * math.log10(c.actual / c.required_value)
+    return 0.0
 
 
 def sort_key(a: Assessment, need: int, ample: float) -> tuple:
@@ -137,13 +140,8 @@ def rank(assessments: list[Assessment], *, need: int = 1, ample: float = 0.5,
         folded = {part_key(k): v for k, v in demand.items()}
         for a in assessments:
             a.demand = folded.get(part_key(a.part), 0)
-    gc_was_on = gc.isenabled()
-    gc.disable()  # many small acyclic keys: see stock.fit.engine.assess
-    try:
+    with cycle_collector_paused():  # many small acyclic keys
         assessments.sort(key=lambda a: sort_key(a, need, ample))
-    finally:
-        if gc_was_on:
-            gc.enable()
     for i, a in enumerate(assessments, 1):
         a.rank = i
     return assessments

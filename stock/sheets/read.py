@@ -15,7 +15,6 @@ from __future__ import annotations
 import codecs
 import csv
 import datetime as dt
-import gc
 import io
 import re
 from collections import Counter
@@ -28,6 +27,7 @@ from pathlib import Path
 from typing import Any
 
 from stock.errors import ImportFileError, suggest
+from stock.gcpause import cycle_collector_paused
 from stock.sheets.escape import APOSTROPHE
 from stock.sheets.limits import DEFAULT_LIMITS, Limits, check_file_size, check_xlsx_archive
 
@@ -930,13 +930,8 @@ def read_table(
     # Reading makes hundreds of thousands of small acyclic objects (strings, tuples, dicts,
     # rows); the cycle collector would scan them again and again for nothing (a quarter of the
     # time of a 50,000-row CSV here). Pause it for the read only; nothing made here is cyclic.
-    collecting = gc.isenabled()
-    gc.disable()
-    try:
+    with cycle_collector_paused():
         rows = list(reader.rows())
-    finally:
-        if collecting:
-            gc.enable()
     duplicates: list[tuple[int, int]] = []
     keys = [tuple(row.cells.values()) for row in rows]
     # Built from the last row to the first, the dict keeps each key's FIRST row index.

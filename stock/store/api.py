@@ -347,6 +347,8 @@ class Store:
                         f"{have[0]} on hand / {have[1]} reserved, ledger says "
                         f"{want[0]} / {want[1]}"
                     )
+            problems.extend(f"{n}: its parameter document differs from its parameter rows"
+                            for n in repo.stale_docs(s))
             if self.engine.dialect.name == "sqlite":
                 result = s.execute(text("PRAGMA integrity_check")).scalars().all()
                 if result != ["ok"]:

@@ -24,7 +24,7 @@ if TYPE_CHECKING:
 
 #: The newest migration. A test checks it against Alembic's head, so that opening an
 #: up-to-date store costs one query and never imports Alembic (~0.9 s here).
-SCHEMA_HEAD = "0003"
+SCHEMA_HEAD = "0004"
 
 #: Where the migration scripts live: ``migrations/`` at the project root, reached through
 #: the package's ``stock/migrations`` link, so a wheel (which copies the scripts into the

@@ -57,6 +57,9 @@ class Part(Base):
     attrs: Mapped[str] = mapped_column(Text, default="{}")  # JSON object of text attributes
     source: Mapped[str | None] = mapped_column(Text)  # catalog row source, when filled from it
     created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True), default=utcnow)
+    # the part's parameters as one document (stock.store.paramdoc), kept with the rows of
+    # ``params`` by the store's writers: the candidate loader reads this, not the rows
+    params_doc: Mapped[str] = mapped_column(Text, default="{}", server_default="{}")
 
     __table_args__ = (Index("ix_parts_kind_family", "kind", "family"),)
 

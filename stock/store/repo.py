@@ -6,13 +6,14 @@ import json
 from collections import defaultdict
 from collections.abc import Iterable, Sequence
 
-from sqlalchemy import delete, func, insert, select
+from sqlalchemy import delete, func, insert, select, update
 from sqlalchemy.orm import Session
 
 from stock.kinds import Bound, Kind
 from stock.parts import Origin, Param, PartSpec, part_key
 from stock.store.db import bulk_insert
 from stock.store.models import ParamRow, Part, utcnow
+from stock.store.paramdoc import encode
 
 
 def at_text(at: dict[str, float] | None) -> str:
@@ -42,6 +43,22 @@ def insert_part(session: Session, spec: PartSpec) -> int:
     return pid
 
 
+def refresh_docs(session: Session, ids: Iterable[int]) -> None:
+    """Rewrite the parameter documents of parts ``ids`` from their ``params`` rows (in row
+    order): the one way a document follows a change to the rows."""
+    ids = list(ids)
+    for i in range(0, len(ids), 500):
+        chunk = ids[i : i + 500]
+        params: dict[int, list[Param]] = {pid: [] for pid in chunk}
+        for pid, name, bound, value, at, origin in session.execute(
+                select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value,
+                       ParamRow.at, ParamRow.origin)
+                .where(ParamRow.part_id.in_(chunk)).order_by(ParamRow.id)):
+            params[pid].append(Param(name, Bound(bound), value, at_dict(at), Origin(origin)))
+        session.execute(update(Part), [{"id": pid, "params_doc": encode(ps)}
+                                       for pid, ps in params.items()])
+
+
 def write_params(session: Session, pid: int, params: Iterable[Param], *,
                  replace: bool = False) -> None:
     """Store ``params`` for part ``pid``; with ``replace`` the same name+bound is overwritten."""
@@ -55,6 +72,19 @@ def write_params(session: Session, pid: int, params: Iterable[Param], *,
                                                    ParamRow.name == r["name"],
                                                    ParamRow.bound == r["bound"]))
     session.execute(insert(ParamRow), rows)
+    refresh_docs(session, [pid])
+
+
+def stale_docs(session: Session) -> list[str]:
+    """Numbers of the parts whose parameter document differs from their ``params`` rows."""
+    params: dict[int, list[Param]] = defaultdict(list)
+    for pid, name, bound, value, at, origin in session.execute(
+            select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value, ParamRow.at,
+                   ParamRow.origin).order_by(ParamRow.id)):
+        params[pid].append(Param(name, Bound(bound), value, at_dict(at), Origin(origin)))
+    return [number for pid, number, doc in session.execute(
+                select(Part.id, Part.number, Part.params_doc).order_by(Part.key))
+            if doc != encode(params.get(pid, ()))]
 
 
 def update_part(session: Session, pid: int, spec: PartSpec) -> None:
@@ -121,7 +151,7 @@ def insert_parts_bulk(session: Session, specs: Sequence[PartSpec]) -> dict[str, 
         dict(number=s.number.strip(), key=k, kind=s.kind.value, family=s.family,
              package=s.package, pinout=s.pinout, description=s.description,
              attrs=json.dumps(s.attrs, sort_keys=True) if s.attrs else "{}", source=s.source,
-             created_at=now)
+             created_at=now, params_doc=encode(s.params))
         for s, k in zip(specs, keys, strict=True)])
     # our rows are the ones above the old maximum id (we hold the write lock)
     ids = {k: int(i) for k, i in session.execute(

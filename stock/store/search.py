@@ -8,18 +8,19 @@ only when asked (``typical=True``), since nothing guarantees them.
 from __future__ import annotations
 
 import json
-from collections.abc import Mapping, Sequence
-from types import MappingProxyType
+from collections.abc import Sequence
 from typing import Any
 
 from sqlalchemy import and_, func, select
 from sqlalchemy.orm import Session
 
-from stock.kinds import Bound, Kind
+from stock.gcpause import cycle_collector_paused
+from stock.kinds import Kind
 from stock.params import PARAMS, Sense
-from stock.parts import Origin, Param, PartSpec, Stocked
+from stock.parts import PartSpec, Stocked
 from stock.slots import Op
 from stock.store.models import Balance, Drawer, ParamRow, Part
+from stock.store.paramdoc import StoredPart
 
 #: Criteria on these names compare a column of the part, not a parameter.
 COLUMNS = {"family": Part.family, "package": Part.package, "pinout": Part.pinout}
@@ -114,20 +115,10 @@ def search(session: Session, kind: Kind | None, family: str | None,
 
 
 
-_BOUNDS = {b.value: b for b in Bound}
-_ORIGINS = {o.value: o for o in Origin}
-_NO_CONDITIONS: Mapping[str, float] = MappingProxyType({})
-
-
-def screened(kind: Kind, family: str | None, screen: Sequence[Any] = ()) -> Any:
-    """A subquery of part ids: ``kind`` (and ``family``) with free stock, minus the parts
-    whose rating surely misses a ``screen`` bound. Parts lacking the parameter stay (an
-    unknown value is a warning, not a failure)."""
-    stmt = (select(Balance.part_id)
-            .join(Part, Part.id == Balance.part_id)
-            .where(Part.kind == Kind(kind).value, Balance.on_hand > Balance.reserved))
-    if family:
-        stmt = stmt.where(Part.family == family)
+def _screened(stmt: Any, screen: Sequence[Any]) -> Any:
+    """``stmt`` (over ``parts``) without the parts whose rating surely misses a ``screen``
+    bound. Parts lacking the parameter stay (an unknown value is a warning, not a
+    failure)."""
     for r in screen:
         op, name = Op(r.op), r.param
         if name == "family":  # "signal|schottky": any of them; no family is unknown
@@ -135,46 +126,47 @@ def screened(kind: Kind, family: str | None, screen: Sequence[Any] = ()) -> Any:
             continue
         miss = ParamRow.value < float(r.value) if op == Op.GE else ParamRow.value > float(r.value)
         # uncorrelated NOT IN: one index range scan (see criterion_clause)
-        stmt = stmt.where(Balance.part_id.not_in(
+        stmt = stmt.where(Part.id.not_in(
             select(ParamRow.part_id).where(ParamRow.name == name, ParamRow.bound != "typ",
                                            miss)))
-    return stmt.group_by(Balance.part_id)
+    return stmt
 
 
 def load_candidates(session: Session, kind: Kind, family: str | None = None,
                     screen: Sequence[Any] = ()) -> list[Stocked]:
-    """Free parts of ``kind`` as :class:`Stocked` records, in four set-wise queries.
+    """Free parts of ``kind`` as :class:`Stocked` records, minus those a ``screen`` bound
+    surely rules out.
 
-    The fit engine ranks every one of these, so the loading is kept lean: one query per
-    table over the screened ids, no per-part round trips.
+    The fit engine ranks every one of these, so this is one query: each free balance row
+    with its part's columns and parameter document (no ``params`` rows: see
+    :mod:`stock.store.paramdoc`); the records decode their parameters when first asked.
     """
-    ids = screened(kind, family, screen).subquery()
-    conditions: dict[str, Mapping[str, float]] = {"": _NO_CONDITIONS}
-    specs: dict[int, PartSpec] = {}
-    for pid, number, fam, package, pinout, desc, attrs, source in raw_rows(session,
-            select(Part.id, Part.number, Part.family, Part.package, Part.pinout,
-                   Part.description, Part.attrs, Part.source)
-            .where(Part.id.in_(select(ids.c.part_id))).order_by(Part.id)):
-        specs[pid] = PartSpec(number, kind, fam, package, pinout, desc or "",
-                              json.loads(attrs) if attrs and attrs != "{}" else {}, [], source)
-    for pid, name, bound, value, at, origin in raw_rows(session,
-            select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value, ParamRow.at,
-                   ParamRow.origin)
-            .where(ParamRow.part_id.in_(select(ids.c.part_id))).order_by(ParamRow.id)):
-        at_map = conditions.get(at)
-        if at_map is None:  # most parts share a few condition strings ("ta" = 25 °C)
-            at_map = conditions[at] = MappingProxyType(json.loads(at))  # shared: read-only
-        specs[pid].params.append(Param(name, _BOUNDS[bound], value, at_map, _ORIGINS[origin]))
-    where: dict[int, list[tuple[str, int]]] = {pid: [] for pid in specs}
-    for pid, label, free in raw_rows(session,
-            select(Balance.part_id, Drawer.label, Balance.on_hand - Balance.reserved)
-            .join(Drawer, Drawer.id == Balance.drawer_id)
-            .where(Balance.part_id.in_(select(ids.c.part_id)),
-                   Balance.on_hand > Balance.reserved)
-            .order_by(Balance.part_id, Drawer.label)):
-        where[pid].append((label, int(free)))
-    return [Stocked(spec, sum(q for _, q in where[pid]), where[pid])
-            for pid, spec in specs.items()]
+    labels = dict(raw_rows(session, select(Drawer.id, Drawer.label)))
+    stmt = (select(Part.id, Part.number, Part.family, Part.package, Part.pinout,
+                   Part.description, Part.attrs, Part.source, Part.params_doc,
+                   Balance.drawer_id, Balance.on_hand - Balance.reserved)
+            .join(Balance, Balance.part_id == Part.id)
+            .where(Part.kind == Kind(kind).value, Balance.on_hand > Balance.reserved))
+    if family:
+        stmt = stmt.where(Part.family == family)
+    out: list[Stocked] = []
+    last = None
+    where: list[tuple[str, int]] = []
+    with cycle_collector_paused():  # thousands of small acyclic records
+        for pid, number, fam, package, pinout, desc, attrs, source, doc, drawer, free in \
+                raw_rows(session, _screened(stmt, screen).order_by(Part.id)):
+            if pid != last:
+                last = pid
+                where = []
+                out.append(Stocked(StoredPart(number, kind, fam, package, pinout, desc or "",
+                                              json.loads(attrs) if attrs and attrs != "{}" else {},
+                                              source, doc), 0, where))
+            where.append((labels[drawer], int(free)))
+        for s in out:
+            if len(s.drawers) > 1:
+                s.drawers.sort()
+            s.free = sum(q for _, q in s.drawers)
+    return out
 
 
 def kind_columns(session: Session, kind: Kind, names: Sequence[str]
@@ -226,18 +218,13 @@ def load_stocked(session: Session, ids: Sequence[int]) -> dict[int, Stocked]:
     for i in range(0, len(ids), 900):  # below SQLite's default bound-parameter limit
         chunk = list(ids[i : i + 900])
         specs: dict[int, PartSpec] = {}
-        for pid, number, kind, fam, package, pinout, desc, attrs, source in conn.execute(
+        for pid, number, kind, fam, package, pinout, desc, attrs, source, doc in conn.execute(
                 select(Part.id, Part.number, Part.kind, Part.family, Part.package, Part.pinout,
-                       Part.description, Part.attrs, Part.source).where(Part.id.in_(chunk))):
-            specs[pid] = PartSpec(number, Kind(kind), fam, package, pinout, desc or "",
-                                  json.loads(attrs) if attrs and attrs != "{}" else {}, [],
-                                  source)
-        for pid, name, bound, value, at, origin in conn.execute(
-                select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value,
-                       ParamRow.at, ParamRow.origin)
-                .where(ParamRow.part_id.in_(chunk)).order_by(ParamRow.id)):
-            specs[pid].params.append(Param(name, _BOUNDS[bound], value,
-                                           json.loads(at) if at else {}, _ORIGINS[origin]))
+                       Part.description, Part.attrs, Part.source, Part.params_doc)
+                .where(Part.id.in_(chunk))):
+            specs[pid] = StoredPart(number, Kind(kind), fam, package, pinout, desc or "",
+                                    json.loads(attrs) if attrs and attrs != "{}" else {},
+                                    source, doc)
         where: dict[int, list[tuple[str, int]]] = {pid: [] for pid in specs}
         for pid, label, free in conn.execute(
                 select(Balance.part_id, Drawer.label, Balance.on_hand - Balance.reserved)

@@ -1,0 +1,171 @@
+"""A part's parameters as one document, stored beside the ``params`` table.
+
+The ``params`` table is the parametric index: one row per value, searched by range. The
+fit engine, though, reads *every* parameter of thousands of candidates at once, and
+fetching ~70,000 rows costs more than all the engineering done on them. So each part
+also carries its parameters as one text (``parts.params_doc``), written by the store's
+writers in the same transaction as the rows (:mod:`stock.store.repo`), checked against
+the rows by ``stock verify``, and read by the candidate loader.
+
+The document is a JSON object, parameter name → the *group* text of that name's values,
+names in the order their first value was written::
+
+    {"vceo":"max 40.0","hfe":"min 100.0 ic=0.15 vce=10.0;max 300.0 ic=0.15 vce=10.0",
+     "pd":"max 0.625 ta=25.0 catalog"}
+
+A group text is rows joined by ``;``; a row is ``bound value`` then, space-separated,
+its test conditions as ``name=value`` (sorted by name) and its origin when it is not
+``user``. Numbers are written as Python's shortest round-trip ``repr``, so they read back
+bit for bit. The group texts are also the fit engine's memo keys: two parts with the same
+text for a name hold the same values of it (:meth:`StoredPart.param_groups`).
+"""
+
+from __future__ import annotations
+
+import json
+import re
+from collections.abc import Iterable, Mapping
+from functools import lru_cache
+from types import MappingProxyType
+from typing import Any
+
+from stock.errors import StockError
+from stock.kinds import Bound, Kind
+from stock.parts import NO_CONDITIONS, Origin, Param, PartSpec
+
+_BOUNDS = {b.value: b for b in Bound}
+_ORIGINS = {o.value: o for o in Origin}
+_NAME = re.compile(r"[a-z][a-z0-9_]*\Z")  # parameter and condition names are identifiers
+_decode_json = json.JSONDecoder().decode
+
+#: The document of a part without parameters.
+EMPTY = "{}"
+
+
+def _row(p: Param) -> str:
+    text = f"{Bound(p.bound).value} {float(p.value)!r}"
+    for k in sorted(p.at):
+        if not _NAME.match(k):
+            raise StockError(f"test condition {k!r} of {p.name}: a name of letters, digits "
+                             "and '_' is needed")
+        text += f" {k}={float(p.at[k])!r}"
+    if p.origin is not Origin.USER:
+        text += f" {Origin(p.origin).value}"
+    return text
+
+
+def encode(params: Iterable[Param]) -> str:
+    """The document of ``params`` (in their order; a name's values grouped together)."""
+    groups: dict[str, list[str]] = {}
+    for p in params:
+        if not _NAME.match(p.name):
+            raise StockError(f"parameter name {p.name!r}: letters, digits and '_' only")
+        groups.setdefault(p.name, []).append(_row(p))
+    return json.dumps({n: ";".join(rows) for n, rows in groups.items()},
+                      separators=(",", ":"))
+
+
+def groups_of(doc: str) -> dict[str, str]:
+    """Parameter name → group text."""
+    return _decode_json(doc) if doc != EMPTY else {}
+
+
+@lru_cache(maxsize=4096)
+def _conditions(tokens: tuple[str, ...]) -> Mapping[str, float]:
+    # one shared, read-only mapping per distinct set of conditions ("ta=25.0")
+    return MappingProxyType({k: float(v) for k, v in (t.split("=") for t in tokens)})
+
+
+def decode_group(name: str, text: str) -> list[Param]:
+    """The values of parameter ``name`` from its group text."""
+    out = []
+    for row in text.split(";"):
+        bits = row.split(" ")
+        at: Mapping[str, float] = NO_CONDITIONS
+        origin = Origin.USER
+        if len(bits) > 2:
+            rest = bits[2:]
+            if "=" not in rest[-1]:
+                origin = _ORIGINS[rest.pop()]
+            if rest:
+                at = _conditions(tuple(rest))
+        out.append(Param(name, _BOUNDS[bits[0]], float(bits[1]), at, origin))
+    return out
+
+
+def decode(doc: str) -> list[Param]:
+    """Every parameter in the document, grouped by name in the document's order."""
+    out: list[Param] = []
+    for name, text in groups_of(doc).items():
+        out.extend(decode_group(name, text))
+    return out
+
+
+class StoredPart(PartSpec):
+    """A part record from the store whose parameters are decoded from its document on
+    first use; :meth:`param_groups` gives the undecoded group texts (the fit engine's
+    memo keys) and :meth:`partial` a record of a few names, decoding only those.
+
+    Equal to a :class:`PartSpec` with the same fields; its parameters come grouped by
+    name (the order among names carries no meaning; within a name it is kept).
+    """
+
+    def __init__(self, number: str, kind: Kind, family: str | None, package: str | None,
+                 pinout: str | None, description: str, attrs: dict[str, str],
+                 source: str | None, doc: str) -> None:
+        # no dataclass __init__: the loader builds thousands of these
+        self.number = number
+        self.kind = kind
+        self.family = family
+        self.package = package
+        self.pinout = pinout
+        self.description = description
+        self.attrs = attrs
+        self.source = source
+        self._doc = doc
+        self._groups: dict[str, str] | None = None
+        self._params: list[Param] | None = None
+
+    @property  # type: ignore[override]
+    def params(self) -> list[Param]:
+        if self._params is None:
+            self._params = [p for name, text in self.param_groups().items()
+                            for p in decode_group(name, text)]
+        return self._params
+
+    @params.setter
+    def params(self, value: list[Param]) -> None:
+        self._params = value
+        self._groups = None
+        self._doc = encode(value)
+
+    def param_groups(self) -> Mapping[str, str]:
+        if self._groups is None:
+            self._groups = groups_of(self._doc)
+        return self._groups
+
+    def partial(self, names: Iterable[str]) -> PartSpec:
+        groups = self.param_groups()
+        params: list[Param] = []
+        for n in names:
+            text = groups.get(n)
+            if text is not None:
+                params.extend(decode_group(n, text))
+        return PartSpec(self.number, self.kind, self.family, self.package, self.pinout,
+                        self.description, self.attrs, params, self.source)
+
+    def __eq__(self, other: Any) -> bool:
+        if not isinstance(other, PartSpec):
+            return NotImplemented
+        return _fields(self) == _fields(other)
+
+    __hash__ = None  # type: ignore[assignment]
+
+
+def _fields(p: PartSpec) -> tuple:
+    first: dict[str, int] = {}
+    for i, q in enumerate(p.params):
+        first.setdefault(q.name, i)
+    grouped = sorted(p.params, key=lambda q: first[q.name])  # stable within a name
+    return (p.number, p.kind, p.family, p.package, p.pinout, p.description, p.attrs,
+            grouped, p.source)

@@ -1,0 +1,137 @@
+"""The parameter document each part carries beside its ``params`` rows
+(``stock.store.paramdoc``): it reads back every value bit for bit, every writer keeps it
+equal to the rows, ``verify`` notices when it is not, and migration 0004 fills it."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+from sqlalchemy import text
+
+from stock.errors import StockError
+from stock.kinds import Bound, Kind
+from stock.parts import Origin, Param, PartSpec
+from stock.store.paramdoc import EMPTY, StoredPart, decode, decode_group, encode, groups_of
+
+names = st.sampled_from(["vceo", "ic", "hfe", "ft", "vf", "c", "tol", "rth_ja", "idss"])
+values = st.floats(allow_nan=False, allow_infinity=False, width=64)
+conditions = st.dictionaries(st.sampled_from(["ta", "tc", "ic", "vce", "if", "vr", "f"]),
+                             values, max_size=3)
+params = st.builds(Param, names, st.sampled_from(list(Bound)), values, conditions,
+                   st.sampled_from(list(Origin)))
+
+
+def grouped(ps: list[Param]) -> list[Param]:
+    first: dict[str, int] = {}
+    for i, p in enumerate(ps):
+        first.setdefault(p.name, i)
+    return sorted(ps, key=lambda p: first[p.name])
+
+
+@given(st.lists(params, max_size=12))
+def test_every_value_reads_back_bit_for_bit(ps: list[Param]) -> None:
+    back = decode(encode(ps))
+    assert [(p.name, p.bound, p.origin, dict(p.at)) for p in back] == \
+        [(p.name, p.bound, p.origin, dict(p.at)) for p in grouped(ps)]
+    for a, b in zip(back, grouped(ps), strict=True):
+        # repr() of a float is its shortest round-trip text (Python language reference)
+        assert a.value.hex() == float(b.value).hex()
+        assert all(math.isclose(a.at[k], b.at[k], rel_tol=0, abs_tol=0) for k in b.at)
+
+
+def test_the_document_is_readable_text() -> None:
+    doc = encode([Param("vceo", Bound.MAX, 40.0),
+                  Param("hfe", Bound.MIN, 100.0, {"vce": 10.0, "ic": 0.15}, Origin.CATALOG),
+                  Param("ft", Bound.TYP, 0.1 + 0.2)])
+    assert doc == ('{"vceo":"max 40.0","hfe":"min 100.0 ic=0.15 vce=10.0 catalog",'
+                   '"ft":"typ 0.30000000000000004"}')
+    assert groups_of(doc)["hfe"] == "min 100.0 ic=0.15 vce=10.0 catalog"
+    assert decode_group("ft", "typ 0.30000000000000004")[0].value == 0.1 + 0.2
+    assert encode([]) == EMPTY and decode(EMPTY) == []
+
+
+@pytest.mark.parametrize("bad", [Param("v ceo", Bound.MAX, 1.0),
+                                 Param("vf", Bound.MAX, 1.0, {"i f": 0.01})])
+def test_names_that_would_break_the_text_are_refused(bad: Param) -> None:
+    with pytest.raises(StockError):
+        encode([bad])
+
+
+def _pn2222a() -> PartSpec:
+    return PartSpec("PN2222A", Kind.BJT, "npn", "TO-92", "EBC", params=[
+        Param("vceo", Bound.MAX, 40.0), Param("hfe", Bound.MIN, 100.0, {"ic": 0.15}),
+        Param("ft", Bound.MIN, 300e6), Param("hfe", Bound.MAX, 300.0, {"ic": 0.15})])
+
+
+def test_a_stored_record_decodes_only_what_is_asked() -> None:
+    spec = _pn2222a()
+    part = StoredPart(spec.number, spec.kind, spec.family, spec.package, spec.pinout, "", {},
+                      None, encode(spec.params))
+    assert part._params is None  # nothing decoded yet
+    assert part.partial(["hfe"]).params == [p for p in spec.params if p.name == "hfe"]
+    assert part._params is None
+    assert part.param_groups()["ft"] == "min 300000000.0"
+    assert part == spec and spec == part
+    assert part.get("hfe", Bound.MAX) == spec.get("hfe", Bound.MAX)
+    part.params = [Param("vceo", Bound.MAX, 60.0)]
+    assert part.param_groups() == {"vceo": "max 60.0"}
+
+
+def _doc(store, number: str) -> str:  # type: ignore[no-untyped-def]
+    with store.read() as s:
+        return s.execute(text("SELECT params_doc FROM parts WHERE number = :n"),
+                         {"n": number}).scalar_one()
+
+
+def test_every_writer_keeps_the_document_equal_to_the_rows(store) -> None:  # type: ignore[no-untyped-def]
+    store.save_part(_pn2222a())
+    assert decode(_doc(store, "PN2222A")) == grouped(_pn2222a().params)
+    # an update replaces values by name and bound: the document follows the rows
+    store.save_part(PartSpec("PN2222A", Kind.BJT, params=[Param("vceo", Bound.MAX, 45.0),
+                                                          Param("pd", Bound.MAX, 0.625)]))
+    doc = groups_of(_doc(store, "PN2222A"))
+    assert doc["vceo"] == "max 45.0" and doc["pd"] == "max 0.625"
+    assert "hfe" in doc and "ft" in doc
+    assert store.verify() == []
+    found = store.find_part("PN2222A")
+    assert found is not None and found.get("vceo").value == 45.0  # type: ignore[union-attr]
+
+
+def test_verify_names_a_part_whose_document_drifted(store) -> None:  # type: ignore[no-untyped-def]
+    store.save_part(_pn2222a())
+    with store.write() as s:
+        s.execute(text("UPDATE parts SET params_doc = '{}' WHERE number = 'PN2222A'"))
+    problems = store.verify()
+    assert problems == ["PN2222A: its parameter document differs from its parameter rows"]
+
+
+def test_candidates_come_from_the_document(store) -> None:  # type: ignore[no-untyped-def]
+    store.save_part(_pn2222a())
+    store.receive("PN2222A", "B2", 5)
+    store.receive("PN2222A", "A1", 3)
+    (c,) = store.candidates(Kind.BJT, "npn")
+    assert isinstance(c.part, StoredPart)
+    assert c.part == _pn2222a()
+    assert c.free == 8 and c.drawers == [("A1", 3), ("B2", 5)]
+
+
+def test_migration_0004_fills_the_documents_of_an_older_store(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    from stock.store.api import Store
+    from stock.store.db import make_engine, migrate
+
+    eng = make_engine(f"sqlite:///{tmp_path / 'old.db'}")
+    migrate(eng, "0003")
+    with eng.begin() as conn:
+        conn.execute(text("INSERT INTO parts (id, number, key, kind, family, description, "
+                          "attrs, created_at) VALUES (1, 'PN2222A', 'PN2222A', 'bjt', 'npn', "
+                          "'', '{}', '2026-12-01')"))
+        conn.execute(text("INSERT INTO params (part_id, name, bound, value, at, origin) "
+                          "VALUES (1, 'vceo', 'max', 40.0, '', 'user'), "
+                          "(1, 'hfe', 'min', 100.0, :at, 'catalog')"), {"at": '{"ic":0.15}'})
+    eng.dispose()
+    store = Store(f"sqlite:///{tmp_path / 'old.db'}")  # migrates itself on open
+    assert _doc(store, "PN2222A") == '{"vceo":"max 40.0","hfe":"min 100.0 ic=0.15 catalog"}'
+    assert store.verify() == []
