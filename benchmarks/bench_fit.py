@@ -20,7 +20,8 @@ from benchmarks.generate import generate_store
 
 
 def raw_fetch(con: sqlite3.Connection, bounds: list[tuple[str, float]]) -> int:
-    """The candidate rows, fetched by hand: parts, their parameters and drawers.
+    """The candidate rows of record, fetched by hand: parts, their parameter rows and
+    drawers (three queries over the screened ids).
 
     ``bounds``: (parameter, minimum) pairs; a part whose guaranteed value is below one is
     left out, a part without the parameter stays (as the store's screen does).
@@ -40,47 +41,77 @@ def raw_fetch(con: sqlite3.Connection, bounds: list[tuple[str, float]]) -> int:
     return n
 
 
-def main(path: Path | None = None) -> bool:
+def raw_fetch_doc(con: sqlite3.Connection, bounds: list[tuple[str, float]]) -> int:
+    """The same candidates fetched by hand the way the store's loader reads them: a row
+    per part with its columns, parameter document and free balances folded into text."""
+    misses = "".join(f" AND p.id NOT IN (SELECT part_id FROM params WHERE name = '{n}' "
+                     f"AND bound != 'typ' AND value < {v!r})" for n, v in bounds)
+    dict(con.execute("SELECT id, label FROM drawers"))
+    return len(con.execute(
+        "SELECT p.id, p.number, p.family, p.package, p.pinout, p.description, p.attrs, "
+        "p.source, p.params_doc, group_concat(b.drawer_id || ':' || (b.on_hand - b.reserved), "
+        "',') FROM parts p JOIN balances b ON b.part_id = p.id WHERE p.kind = 'bjt' "
+        f"AND p.family = 'npn' AND b.on_hand > b.reserved{misses} GROUP BY p.id "
+        "ORDER BY p.id").fetchall())
+
+
+def measure(db: Path, title: str, targets: bool) -> bool:
+    """Rank every candidate for the benchmark slot in the store at ``db``; with
+    ``targets`` the issue's targets decide, else the figures are for information."""
     from stock.catalog import load_catalog
-    from stock.fit import assess, requirements_for, screen, slot_from_args
+    from stock.fit import requirements_for, screen, slot_from_args, stand_ins
     from stock.kinds import Kind
     from stock.rules import load_policy
     from stock.slots import Conditions
     from stock.store.api import Store
 
+    store = Store(f"sqlite:///{db}")
+    policy = load_policy({})
+    slot = slot_from_args("PN2222A", kind=Kind.BJT, role="rf-amp",
+                          conditions=Conditions(supply=13.8, freq=14e6, current=0.02),
+                          needs=(), resolve=load_catalog().get)
+    sure = screen(requirements_for(slot, policy))
+    bounds = [(r.param, float(r.value)) for r in sure if r.param != "family"]
+
+    def ours() -> int:
+        ranked, _ = stand_ins(store, slot, policy)
+        return len(ranked)
+
+    con = sqlite3.connect(db)
+    pool = store.candidates(Kind.BJT, "npn", sure)
+    assert len(pool) == raw_fetch(con, bounds) == raw_fetch_doc(con, bounds), \
+        "store and raw SQL disagree"
+    print(f"\n{title}\ncandidates after screening: {len(pool)} of "
+          f"{con.execute('SELECT COUNT(*) FROM parts').fetchone()[0]} parts; {ours()} fit")
+    t_load = median_time(lambda: store.candidates(Kind.BJT, "npn", sure))
+    t_all, t_raw = compare(ours, lambda: raw_fetch(con, bounds))
+    _, t_doc = compare(ours, lambda: raw_fetch_doc(con, bounds))
+    print(f"split: loading {t_load * 1000:.0f} ms, ranking {(t_all - t_load) * 1000:.0f} ms")
+    ok = report("fit PN2222A rf-amp 14 MHz (rank all)", t_all, t_raw, 3.0, "raw SQL (rows)")
+    report("  the same, against the loader's own query", t_all, t_doc, 3.0, "raw SQL (doc) ")
+    within = t_all <= 0.3
+    print(f"absolute: {t_all:.3f} s (target ≤ 0.3 s)  {'ok' if within else 'MISSED'}")
+    store.close()
+    return (ok and within) or not targets
+
+
+def main(path: Path | None = None) -> bool:
+    """The target store (values as datasheets state them) at ``path`` (made if absent),
+    then the worst case for shared checks: every fT distinct."""
     with tempfile.TemporaryDirectory() as d:
-        db = path or Path(d) / "big.db"
-        if not db.exists():
-            t0 = time.perf_counter()
-            generate_store(db)
-            print(f"generated 100,000 parts / 200,000 movements in "
-                  f"{time.perf_counter() - t0:.1f} s")
-        store = Store(f"sqlite:///{db}")
-        policy = load_policy({})
-        slot = slot_from_args("PN2222A", kind=Kind.BJT, role="rf-amp",
-                              conditions=Conditions(supply=13.8, freq=14e6, current=0.02),
-                              needs=(), resolve=load_catalog().get)
-        reqs = requirements_for(slot, policy)
-        sure = screen(reqs)
-        bounds = [(r.param, float(r.value)) for r in sure if r.param != "family"]
-
-        def ours() -> int:
-            pool = store.candidates(Kind.BJT, "npn", sure)
-            return len(assess(slot, pool, policy))
-
-        con = sqlite3.connect(db)
-        pool = store.candidates(Kind.BJT, "npn", sure)
-        assert len(pool) == raw_fetch(con, bounds), "store and raw SQL disagree"
-        print(f"candidates after screening: {len(pool)} of "
-              f"{con.execute('SELECT COUNT(*) FROM parts').fetchone()[0]} parts; "
-              f"{ours()} fit")
-        t_load = median_time(lambda: store.candidates(Kind.BJT, "npn", sure))
-        t_all, t_raw = compare(ours, lambda: raw_fetch(con, bounds))
-        print(f"split: loading {t_load * 1000:.0f} ms, ranking {(t_all - t_load) * 1000:.0f} ms")
-        ok = report("fit PN2222A rf-amp 14 MHz (rank all)", t_all, t_raw, 3.0, "raw SQL")
-        within = t_all <= 0.3
-        print(f"absolute: {t_all:.3f} s (target ≤ 0.3 s)  {'ok' if within else 'MISSED'}")
-        return ok and within
+        base = path or Path(d) / "big.db"
+        results = []
+        for db, distinct, title, targets in (
+                (base, False, "store with values as datasheets state them (the target)", True),
+                (base.with_suffix(".distinct.db"), True,
+                 "worst case: no two parts share an fT (for information)", False)):
+            if not db.exists():
+                t0 = time.perf_counter()
+                generate_store(db, distinct=distinct)
+                print(f"generated 100,000 parts / 200,000 movements in "
+                      f"{time.perf_counter() - t0:.1f} s")
+            results.append(measure(db, title, targets))
+        return all(results)
 
 
 if __name__ == "__main__":

@@ -52,7 +52,7 @@ class Guaranteed:
     param: Param
 
 
-@dataclass
+@dataclass(slots=True)
 class PartSpec:
     """A part type: number, kind, family, package, pin order, attributes, parameters."""
 
@@ -143,7 +143,7 @@ def part_key(number: str) -> str:
     return " ".join(number.split()).upper()
 
 
-@dataclass
+@dataclass(slots=True)
 class Stocked:
     """A part as a candidate from the drawers (or the catalog): free quantity and where."""
 

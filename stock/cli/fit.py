@@ -143,15 +143,14 @@ def fit(
     from stock.errors import StockError, UnknownPart
     from stock.fit import (
         JSON_VERSION,
-        assess,
         assessment_json,
         cautions,
         combination_json,
         combinations_for,
         render_requirement,
         requirements_for,
-        screen,
         slot_from_args,
+        stand_ins,
     )
     from stock.fit.text import si
     from stock.parts import part_key
@@ -177,17 +176,9 @@ def fit(
     except ValueError as exc:  # an unknown role or kind: a usage error
         raise typer.BadParameter(str(exc)) from None
     reqs = requirements_for(slot, policy)
-    fam = slot.part.family if slot.part is not None else None
-    # polarity and channel must match, so the store may filter on them first
-    prefilter = fam if slot.kind.value in ("bjt", "fet") else None
-    # ratings that surely miss are dropped in the store query, before any ranking (unless
-    # failing parts are to be shown)
-    sure = () if (show_all or explain) else screen(reqs)
-    pool = store.candidates(slot.kind, prefilter, sure)
-    if buy:  # catalog parts not in the drawers: stand-ins to buy (they rank after stock)
-        pool = pool + load_catalog().to_buy(slot.kind, prefilter,
-                                            exclude=[s.part.number for s in pool])
-    ranked = assess(slot, pool, policy, need=qty, include_failing=show_all or bool(explain))
+    ranked, pool = stand_ins(store, slot, policy, need=qty,
+                             include_failing=show_all or bool(explain),
+                             buy_from=load_catalog() if buy else None)
     if explain:
         key = part_key(explain)
         ranked = [a for a in ranked if part_key(a.part) == key]

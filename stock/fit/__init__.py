@@ -27,6 +27,7 @@ from stock.fit.engine import (
     resolve_value_slot,
     slot_from_args,
 )
+from stock.fit.find import stand_ins
 from stock.fit.rank import Assessment, Fitness
 from stock.fit.requirements import requirements_for, screen
 
@@ -54,4 +55,5 @@ __all__ = [
     "resolve_value_slot",
     "screen",
     "slot_from_args",
+    "stand_ins",
 ]

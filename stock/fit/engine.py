@@ -57,48 +57,67 @@ class _SharedChecks:
     store most candidates share their ratings with many others. Checks are read-only,
     so sharing them is safe; a candidate without cheap keys is checked directly.
 
-    :meth:`check` gives the check and its share of the candidate's versatility."""
+    Entries are (check, its share of the candidate's versatility). A requirement whose
+    values hardly repeat (a measured fT) stops being remembered once that shows: its
+    entries would cost memory and collector time and save nothing.
+    """
 
-    __slots__ = ("req", "slot", "policy", "names", "one", "memo")
+    __slots__ = ("req", "slot", "policy", "names", "one", "memo", "misses", "keep")
+
+    #: Lookups after which a memo that hits less than one time in four stops growing.
+    TRIAL = 256
 
     def __init__(self, req: Requirement, slot: Slot, policy: Policy) -> None:
         self.req, self.slot, self.policy = req, slot, policy
         self.names = reads(req)
         self.one = self.names[0] if self.names is not None and len(self.names) == 1 else None
         self.memo: dict[tuple, tuple[Check, float]] = {}
+        self.misses = 0
+        self.keep = True
 
-    def check(self, part: PartSpec, groups: Mapping[str, str] | None) -> tuple[Check, float]:
-        names = self.names
-        if names is None or groups is None:
-            c = check_one(part, self.req, self.slot, self.policy)
-            return c, surplus(c)
-        # kind is the slot's for every candidate; family is read by several checks
-        one = self.one
-        key = (part.family, groups.get(one)) if one is not None else \
-            (part.family, *[groups.get(n) for n in names])
-        hit = self.memo.get(key)
-        if hit is None:
-            c = check_one(part.partial(names), self.req, self.slot, self.policy)
-            hit = self.memo[key] = (c, surplus(c))
-        return hit
+    def direct(self, part: PartSpec) -> tuple[Check, float]:
+        c = check_one(part, self.req, self.slot, self.policy)
+        return c, surplus(c)
+
+    def miss(self, part: PartSpec, key: tuple, seen: int) -> tuple[Check, float]:
+        """Check ``part`` (``seen`` candidates so far) and remember it under ``key``."""
+        c = check_one(part.partial(self.names or ()), self.req, self.slot, self.policy)
+        entry = (c, surplus(c))
+        if self.keep:
+            self.memo[key] = entry
+            self.misses += 1
+            if seen >= self.TRIAL and self.misses * 4 > seen * 3:
+                self.keep = False  # three in four candidates missed: values do not repeat
+                self.memo.clear()
+        return entry
 
 
 def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked],
                  reqs: list[Requirement], called: PartSpec | None, policy: Policy,
                  include_failing: bool) -> None:
     shared = [_SharedChecks(req, slot, policy) for req in reqs]
+    plans = [(sc.one, sc.names, sc.memo, sc) for sc in shared]
     dropins: dict[tuple[str | None, str | None], DropIn] = {}
     fail = Verdict.FAIL
-    for s in candidates:
+    kind = slot.kind
+    for seen, s in enumerate(candidates):
         part = s.part
-        if part.kind is not slot.kind:
+        if part.kind is not kind:
             continue
         groups = part.param_groups()
+        fam = part.family
         checks = []
         failed = False
         vers = 0.0
-        for sc in shared:
-            c, v = sc.check(part, groups)
+        for one, names, memo, sc in plans:
+            if names is None or groups is None:
+                c, v = sc.direct(part)
+            else:
+                # kind is the slot's for every candidate; family is read by several checks
+                key = (fam, groups.get(one)) if one is not None else \
+                    (fam, *[groups.get(n) for n in names])
+                hit = memo.get(key)
+                c, v = hit if hit is not None else sc.miss(part, key, seen)
             if c.verdict is fail:
                 failed = True
                 if not include_failing:

@@ -30,7 +30,7 @@ class Fitness(StrEnum):
     FAILS = "fails"
 
 
-@dataclass
+@dataclass(slots=True)
 class Assessment:
     """One candidate for one slot: its checks, verdicts and rank (1 = best)."""
 

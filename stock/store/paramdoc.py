@@ -31,12 +31,15 @@ from typing import Any
 
 from stock.errors import StockError
 from stock.kinds import Bound, Kind
-from stock.parts import NO_CONDITIONS, Origin, Param, PartSpec
+from stock.parts import NO_CONDITIONS, Origin, Param, PartSpec, Stocked
 
 _BOUNDS = {b.value: b for b in Bound}
 _ORIGINS = {o.value: o for o in Origin}
 _NAME = re.compile(r"[a-z][a-z0-9_]*\Z")  # parameter and condition names are identifiers
-_decode_json = json.JSONDecoder().decode
+# the C scanner itself: json.loads would also match leading and trailing whitespace
+# with a regular expression, twice per part, which the documents (written here) never have
+_scan_json = json.JSONDecoder().scan_once  # type: ignore[attr-defined]
+_new_param = tuple.__new__  # a Param from a complete tuple, without its keyword parsing
 
 #: The document of a part without parameters.
 EMPTY = "{}"
@@ -67,7 +70,7 @@ def encode(params: Iterable[Param]) -> str:
 
 def groups_of(doc: str) -> dict[str, str]:
     """Parameter name → group text."""
-    return _decode_json(doc) if doc != EMPTY else {}
+    return _scan_json(doc, 0)[0] if doc != EMPTY else {}  # type: ignore[no-any-return]
 
 
 @lru_cache(maxsize=4096)
@@ -78,6 +81,10 @@ def _conditions(tokens: tuple[str, ...]) -> Mapping[str, float]:
 
 def decode_group(name: str, text: str) -> list[Param]:
     """The values of parameter ``name`` from its group text."""
+    bits = text.split(" ")
+    if len(bits) == 2:  # the usual case: one value, no conditions, typed in by the user
+        return [_new_param(Param, (name, _BOUNDS[bits[0]], float(bits[1]), NO_CONDITIONS,
+                                   Origin.USER))]
     out = []
     for row in text.split(";"):
         bits = row.split(" ")
@@ -109,6 +116,8 @@ class StoredPart(PartSpec):
     Equal to a :class:`PartSpec` with the same fields; its parameters come grouped by
     name (the order among names carries no meaning; within a name it is kept).
     """
+
+    __slots__ = ("_doc", "_groups", "_params")
 
     def __init__(self, number: str, kind: Kind, family: str | None, package: str | None,
                  pinout: str | None, description: str, attrs: dict[str, str],
@@ -150,7 +159,7 @@ class StoredPart(PartSpec):
         for n in names:
             text = groups.get(n)
             if text is not None:
-                params.extend(decode_group(n, text))
+                params += decode_group(n, text)
         return PartSpec(self.number, self.kind, self.family, self.package, self.pinout,
                         self.description, self.attrs, params, self.source)
 
@@ -158,6 +167,43 @@ class StoredPart(PartSpec):
         if not isinstance(other, PartSpec):
             return NotImplemented
         return _fields(self) == _fields(other)
+
+    __hash__ = None  # type: ignore[assignment]
+
+
+class StoredStock(Stocked):
+    """A candidate from the store whose drawers are read from the loader's folded text
+    (``"drawer id:free,…"``) on first use: ranking needs only the total, which the query
+    sums; the drawers of the few candidates shown are all that is ever spelled out."""
+
+    __slots__ = ("_held", "_labels", "_drawers")
+
+    def __init__(self, part: PartSpec, free: int, held: str, labels: Mapping[int, str]
+                 ) -> None:
+        self.part = part
+        self.free = free
+        self.to_buy = False
+        self._held = held
+        self._labels = labels
+        self._drawers: list[tuple[str, int]] | None = None
+
+    @property  # type: ignore[override]
+    def drawers(self) -> list[tuple[str, int]]:
+        if self._drawers is None:
+            labels = self._labels
+            self._drawers = sorted((labels[int(d)], int(q)) for d, q in
+                                   (item.split(":") for item in self._held.split(",")))
+        return self._drawers
+
+    @drawers.setter
+    def drawers(self, value: list[tuple[str, int]]) -> None:
+        self._drawers = value
+
+    def __eq__(self, other: Any) -> bool:
+        if not isinstance(other, Stocked):
+            return NotImplemented
+        return (self.part, self.free, self.drawers, self.to_buy) == \
+            (other.part, other.free, other.drawers, other.to_buy)
 
     __hash__ = None  # type: ignore[assignment]
 

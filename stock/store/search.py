@@ -11,7 +11,7 @@ import json
 from collections.abc import Sequence
 from typing import Any
 
-from sqlalchemy import and_, func, select
+from sqlalchemy import String, and_, cast, func, select
 from sqlalchemy.orm import Session
 
 from stock.gcpause import cycle_collector_paused
@@ -20,7 +20,7 @@ from stock.params import PARAMS, Sense
 from stock.parts import PartSpec, Stocked
 from stock.slots import Op
 from stock.store.models import Balance, Drawer, ParamRow, Part
-from stock.store.paramdoc import StoredPart
+from stock.store.paramdoc import StoredPart, StoredStock
 
 #: Criteria on these names compare a column of the part, not a parameter.
 COLUMNS = {"family": Part.family, "package": Part.package, "pinout": Part.pinout}
@@ -137,35 +137,30 @@ def load_candidates(session: Session, kind: Kind, family: str | None = None,
     """Free parts of ``kind`` as :class:`Stocked` records, minus those a ``screen`` bound
     surely rules out.
 
-    The fit engine ranks every one of these, so this is one query: each free balance row
-    with its part's columns and parameter document (no ``params`` rows: see
-    :mod:`stock.store.paramdoc`); the records decode their parameters when first asked.
+    The fit engine ranks every one of these, so this is one query, a row per part: its
+    columns, its parameter document (not its ``params`` rows: see
+    :mod:`stock.store.paramdoc`) and its free balances folded into one text. The records
+    decode their parameters when first asked.
     """
     labels = dict(raw_rows(session, select(Drawer.id, Drawer.label)))
+    free = Balance.on_hand - Balance.reserved
+    held = func.aggregate_strings(cast(Balance.drawer_id, String) + ":" + cast(free, String),
+                                  ",")
     stmt = (select(Part.id, Part.number, Part.family, Part.package, Part.pinout,
                    Part.description, Part.attrs, Part.source, Part.params_doc,
-                   Balance.drawer_id, Balance.on_hand - Balance.reserved)
+                   func.sum(free), held)
             .join(Balance, Balance.part_id == Part.id)
             .where(Part.kind == Kind(kind).value, Balance.on_hand > Balance.reserved))
     if family:
         stmt = stmt.where(Part.family == family)
+    stmt = _screened(stmt, screen).group_by(Part.id).order_by(Part.id)
     out: list[Stocked] = []
-    last = None
-    where: list[tuple[str, int]] = []
     with cycle_collector_paused():  # thousands of small acyclic records
-        for pid, number, fam, package, pinout, desc, attrs, source, doc, drawer, free in \
-                raw_rows(session, _screened(stmt, screen).order_by(Part.id)):
-            if pid != last:
-                last = pid
-                where = []
-                out.append(Stocked(StoredPart(number, kind, fam, package, pinout, desc or "",
-                                              json.loads(attrs) if attrs and attrs != "{}" else {},
-                                              source, doc), 0, where))
-            where.append((labels[drawer], int(free)))
-        for s in out:
-            if len(s.drawers) > 1:
-                s.drawers.sort()
-            s.free = sum(q for _, q in s.drawers)
+        for _, number, fam, package, pinout, desc, attrs, source, doc, total, held in raw_rows(
+                session, stmt):
+            out.append(StoredStock(StoredPart(number, kind, fam, package, pinout, desc or "",
+                                              json.loads(attrs) if attrs and attrs != "{}"
+                                              else {}, source, doc), int(total), held, labels))
     return out
 
 
