@@ -71,7 +71,8 @@ def _csv(path: Path, n: int) -> None:
 
 
 def _baseline_import(csv_path: Path, db_path: Path) -> None:
-    """pandas.read_csv, then raw executemany of the same rows into the same tables."""
+    """pandas.read_csv, then raw executemany of the same rows into the same tables
+    (the part rows with their parameter document, as every writer must keep it)."""
     import pandas as pd
 
     df = pd.read_csv(csv_path)
@@ -80,16 +81,17 @@ def _baseline_import(csv_path: Path, db_path: Path) -> None:
     drawers = sorted(set(df["drawer"]))
     con.executemany("INSERT INTO drawers(label, note) VALUES (?, '')", [(d,) for d in drawers])
     did = dict(con.execute("SELECT label, id FROM drawers"))
-    con.executemany(
-        "INSERT INTO parts(number, key, kind, family, description, attrs, created_at) "
-        "VALUES (?, ?, 'bjt', 'npn', '', '{}', '2026-01-01')",
-        [(n, n) for n in df["part"]])
-    pid = dict(con.execute("SELECT key, id FROM parts"))
-    params = []
+    parsed = []
     for n, ps in zip(df["part"], df["params"], strict=True):
-        for item in ps.split(";"):
-            name, _, val = item.strip().partition("=")
-            params.append((pid[n], name, float(val.rstrip("VmA")), ))
+        items = [item.strip().partition("=") for item in ps.split(";")]
+        parsed.append((n, [(name, float(val.rstrip("VmA"))) for name, _, val in items]))
+    con.executemany(
+        "INSERT INTO parts(number, key, kind, family, description, attrs, created_at, "
+        "params_doc) VALUES (?, ?, 'bjt', 'npn', '', '{}', '2026-01-01', ?)",
+        [(n, n, json.dumps({name: f"max {v!r} import" for name, v in vals},
+                           separators=(",", ":"))) for n, vals in parsed])
+    pid = dict(con.execute("SELECT key, id FROM parts"))
+    params = [(pid[n], name, v) for n, vals in parsed for name, v in vals]
     con.executemany("INSERT INTO params(part_id, name, bound, value, at, origin) "
                     "VALUES (?, ?, 'max', ?, '', 'import')", params)
     rows = [(pid[n], did[d], int(q)) for n, d, q in zip(df["part"], df["drawer"], df["qty"],

@@ -45,27 +45,41 @@ _new_param = tuple.__new__  # a Param from a complete tuple, without its keyword
 EMPTY = "{}"
 
 
+_checked_names: set[str] = set()  # names already found to be identifiers
+
+
+def _name(name: str) -> str:
+    if name not in _checked_names:
+        if not _NAME.match(name):
+            raise StockError(f"parameter or condition name {name!r}: letters, digits and '_' "
+                             "only")
+        _checked_names.add(name)
+    return name
+
+
 def _row(p: Param) -> str:
-    text = f"{Bound(p.bound).value} {float(p.value)!r}"
-    for k in sorted(p.at):
-        if not _NAME.match(k):
-            raise StockError(f"test condition {k!r} of {p.name}: a name of letters, digits "
-                             "and '_' is needed")
-        text += f" {k}={float(p.at[k])!r}"
-    if p.origin is not Origin.USER:
-        text += f" {Origin(p.origin).value}"
+    # Bound and Origin are string enums: formatted, they are their values (the table's)
+    bound, origin = f"{p.bound}", f"{p.origin}"
+    if bound not in _BOUNDS or origin not in _ORIGINS:
+        raise StockError(f"{p.name}: bound {bound!r} or origin {origin!r} is not one of "
+                         f"{', '.join(_BOUNDS)} / {', '.join(_ORIGINS)}")
+    text = f"{bound} {float(p.value)!r}"
+    if p.at:
+        for k in sorted(p.at):
+            text += f" {_name(k)}={float(p.at[k])!r}"
+    if origin != "user":
+        text += f" {origin}"
     return text
 
 
 def encode(params: Iterable[Param]) -> str:
     """The document of ``params`` (in their order; a name's values grouped together)."""
-    groups: dict[str, list[str]] = {}
+    groups: dict[str, str] = {}
     for p in params:
-        if not _NAME.match(p.name):
-            raise StockError(f"parameter name {p.name!r}: letters, digits and '_' only")
-        groups.setdefault(p.name, []).append(_row(p))
-    return json.dumps({n: ";".join(rows) for n, rows in groups.items()},
-                      separators=(",", ":"))
+        row = _row(p)
+        name = _name(p.name)
+        groups[name] = f"{groups[name]};{row}" if name in groups else row
+    return json.dumps(groups, separators=(",", ":"))
 
 
 def groups_of(doc: str) -> dict[str, str]:
