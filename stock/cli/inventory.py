@@ -277,7 +277,8 @@ def log(
 
 @app.command()
 def verify(db: DbOpt = None, json_out: JsonOpt = False) -> None:
-    """Prove every balance equals the sum of its ledger rows (and check the database file).
+    """Prove every balance equals the sum of its ledger rows, every part's parameter
+    document equals its parameter rows, and check the database file.
 
     Example: stock verify
     """
