@@ -48,9 +48,10 @@ def raw_fetch_doc(con: sqlite3.Connection, bounds: list[tuple[str, float]]) -> i
                      f"AND bound != 'typ' AND value < {v!r})" for n, v in bounds)
     dict(con.execute("SELECT id, label FROM drawers"))
     return len(con.execute(
-        "SELECT p.id, p.number, p.family, p.package, p.pinout, p.description, p.attrs, "
-        "p.source, p.params_doc, group_concat(b.drawer_id || ':' || (b.on_hand - b.reserved), "
-        "',') FROM parts p JOIN balances b ON b.part_id = p.id WHERE p.kind = 'bjt' "
+        "SELECT p.id, p.number, p.kind, p.family, p.package, p.pinout, p.description, p.attrs, "
+        "p.source, p.params_doc, SUM(b.on_hand - b.reserved), "
+        "group_concat(b.drawer_id || ':' || (b.on_hand - b.reserved), ',') "
+        "FROM parts p JOIN balances b ON b.part_id = p.id WHERE p.kind = 'bjt' "
         f"AND p.family = 'npn' AND b.on_hand > b.reserved{misses} GROUP BY p.id "
         "ORDER BY p.id").fetchall())
 

@@ -187,8 +187,9 @@ class StoredPart(PartSpec):
 
 class StoredStock(Stocked):
     """A candidate from the store whose drawers are read from the loader's folded text
-    (``"drawer id:free,…"``) on first use: ranking needs only the total, which the query
-    sums; the drawers of the few candidates shown are all that is ever spelled out."""
+    (``"drawer id:free,…"``, empty for none) on first use: ranking needs only the total,
+    which the query sums; the drawers of the few candidates shown are all that is ever
+    spelled out."""
 
     __slots__ = ("_held", "_labels", "_drawers")
 
@@ -206,7 +207,8 @@ class StoredStock(Stocked):
         if self._drawers is None:
             labels = self._labels
             self._drawers = sorted((labels[int(d)], int(q)) for d, q in
-                                   (item.split(":") for item in self._held.split(",")))
+                                   (item.split(":") for item in self._held.split(","))
+                                   ) if self._held else []
         return self._drawers
 
     @drawers.setter

@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 from collections import defaultdict
 from collections.abc import Iterable, Sequence
+from typing import Any
 
 from sqlalchemy import delete, func, insert, select, update
 from sqlalchemy.orm import Session
@@ -49,14 +50,22 @@ def refresh_docs(session: Session, ids: Iterable[int]) -> None:
     ids = list(ids)
     for i in range(0, len(ids), 500):
         chunk = ids[i : i + 500]
-        params: dict[int, list[Param]] = {pid: [] for pid in chunk}
-        for pid, name, bound, value, at, origin in session.execute(
-                select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value,
-                       ParamRow.at, ParamRow.origin)
-                .where(ParamRow.part_id.in_(chunk)).order_by(ParamRow.id)):
-            params[pid].append(Param(name, Bound(bound), value, at_dict(at), Origin(origin)))
-        session.execute(update(Part), [{"id": pid, "params_doc": encode(ps)}
-                                       for pid, ps in params.items()])
+        params = param_rows(session, ParamRow.part_id.in_(chunk))
+        session.execute(update(Part), [{"id": pid, "params_doc": encode(params.get(pid, ()))}
+                                       for pid in chunk])
+
+
+def param_rows(session: Session, where: Any = None) -> dict[int, list[Param]]:
+    """Part id → its parameters, read from the ``params`` rows (in row order), of the rows
+    ``where`` selects (all without it)."""
+    stmt = select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value, ParamRow.at,
+                  ParamRow.origin).order_by(ParamRow.id)
+    if where is not None:
+        stmt = stmt.where(where)
+    out: dict[int, list[Param]] = defaultdict(list)
+    for pid, name, bound, value, at, origin in session.execute(stmt):
+        out[pid].append(Param(name, Bound(bound), value, at_dict(at), Origin(origin)))
+    return out
 
 
 def write_params(session: Session, pid: int, params: Iterable[Param], *,
@@ -77,11 +86,7 @@ def write_params(session: Session, pid: int, params: Iterable[Param], *,
 
 def stale_docs(session: Session) -> list[str]:
     """Numbers of the parts whose parameter document differs from their ``params`` rows."""
-    params: dict[int, list[Param]] = defaultdict(list)
-    for pid, name, bound, value, at, origin in session.execute(
-            select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value, ParamRow.at,
-                   ParamRow.origin).order_by(ParamRow.id)):
-        params[pid].append(Param(name, Bound(bound), value, at_dict(at), Origin(origin)))
+    params = param_rows(session)
     return [number for pid, number, doc in session.execute(
                 select(Part.id, Part.number, Part.params_doc).order_by(Part.key))
             if doc != encode(params.get(pid, ()))]
@@ -125,13 +130,7 @@ def load_specs(session: Session, ids: Sequence[int]) -> dict[int, PartSpec]:
         ):
             out[row[0]] = PartSpec(row[1], Kind(row[2]), row[3], row[4], row[5], row[6] or "",
                                    json.loads(row[7] or "{}"), [], row[8])
-        params: dict[int, list[Param]] = defaultdict(list)
-        for pid, name, bound, value, at, origin in session.execute(
-            select(ParamRow.part_id, ParamRow.name, ParamRow.bound, ParamRow.value, ParamRow.at,
-                   ParamRow.origin).where(ParamRow.part_id.in_(chunk)).order_by(ParamRow.id)
-        ):
-            params[pid].append(Param(name, Bound(bound), value, at_dict(at), Origin(origin)))
-        for pid, ps in params.items():
+        for pid, ps in param_rows(session, ParamRow.part_id.in_(chunk)).items():
             out[pid].params = ps
     return out
 

@@ -17,7 +17,7 @@ from sqlalchemy.orm import Session
 from stock.gcpause import cycle_collector_paused
 from stock.kinds import Kind
 from stock.params import PARAMS, Sense
-from stock.parts import PartSpec, Stocked
+from stock.parts import Stocked
 from stock.slots import Op
 from stock.store.models import Balance, Drawer, ParamRow, Part
 from stock.store.paramdoc import StoredPart, StoredStock
@@ -132,6 +132,36 @@ def _screened(stmt: Any, screen: Sequence[Any]) -> Any:
     return stmt
 
 
+def _stock_query(free_only: bool) -> Any:
+    """A row per part: its columns, parameter document, free stock and free balances
+    folded into one text ("drawer id:free,…"); the caller adds WHERE and GROUP BY.
+    ``free_only`` keeps only parts with free stock."""
+    free = Balance.on_hand - Balance.reserved
+    held = func.aggregate_strings(cast(Balance.drawer_id, String) + ":" + cast(free, String),
+                                  ",")
+    stmt = select(Part.id, Part.number, Part.kind, Part.family, Part.package, Part.pinout,
+                  Part.description, Part.attrs, Part.source, Part.params_doc,
+                  func.coalesce(func.sum(free), 0), held)
+    on = and_(Balance.part_id == Part.id, Balance.on_hand > Balance.reserved)
+    return stmt.join(Balance, on) if free_only else stmt.outerjoin(Balance, on)
+
+
+_KINDS = {k.value: k for k in Kind}
+
+
+def _stocked(session: Session, stmt: Any) -> list[tuple[int, Stocked]]:
+    """(part id, record) for each row of a :func:`_stock_query` statement."""
+    labels = dict(raw_rows(session, select(Drawer.id, Drawer.label)))
+    out: list[tuple[int, Stocked]] = []
+    with cycle_collector_paused():  # thousands of small acyclic records
+        for pid, number, kind, fam, package, pinout, desc, attrs, source, doc, total, held in \
+                raw_rows(session, stmt):
+            part = StoredPart(number, _KINDS[kind], fam, package, pinout, desc or "",
+                              json.loads(attrs) if attrs and attrs != "{}" else {}, source, doc)
+            out.append((pid, StoredStock(part, int(total), held or "", labels)))
+    return out
+
+
 def load_candidates(session: Session, kind: Kind, family: str | None = None,
                     screen: Sequence[Any] = ()) -> list[Stocked]:
     """Free parts of ``kind`` as :class:`Stocked` records, minus those a ``screen`` bound
@@ -139,29 +169,14 @@ def load_candidates(session: Session, kind: Kind, family: str | None = None,
 
     The fit engine ranks every one of these, so this is one query, a row per part: its
     columns, its parameter document (not its ``params`` rows: see
-    :mod:`stock.store.paramdoc`) and its free balances folded into one text. The records
-    decode their parameters when first asked.
+    :mod:`stock.store.paramdoc`) and its free stock; the records decode their parameters
+    and drawers when first asked.
     """
-    labels = dict(raw_rows(session, select(Drawer.id, Drawer.label)))
-    free = Balance.on_hand - Balance.reserved
-    held = func.aggregate_strings(cast(Balance.drawer_id, String) + ":" + cast(free, String),
-                                  ",")
-    stmt = (select(Part.id, Part.number, Part.family, Part.package, Part.pinout,
-                   Part.description, Part.attrs, Part.source, Part.params_doc,
-                   func.sum(free), held)
-            .join(Balance, Balance.part_id == Part.id)
-            .where(Part.kind == Kind(kind).value, Balance.on_hand > Balance.reserved))
+    stmt = _stock_query(free_only=True).where(Part.kind == Kind(kind).value)
     if family:
         stmt = stmt.where(Part.family == family)
     stmt = _screened(stmt, screen).group_by(Part.id).order_by(Part.id)
-    out: list[Stocked] = []
-    with cycle_collector_paused():  # thousands of small acyclic records
-        for _, number, fam, package, pinout, desc, attrs, source, doc, total, held in raw_rows(
-                session, stmt):
-            out.append(StoredStock(StoredPart(number, kind, fam, package, pinout, desc or "",
-                                              json.loads(attrs) if attrs and attrs != "{}"
-                                              else {}, source, doc), int(total), held, labels))
-    return out
+    return [s for _, s in _stocked(session, stmt)]
 
 
 def kind_columns(session: Session, kind: Kind, names: Sequence[str]
@@ -207,26 +222,10 @@ def raw_rows(session: Session, stmt: Any) -> list[tuple[Any, ...]]:
 
 
 def load_stocked(session: Session, ids: Sequence[int]) -> dict[int, Stocked]:
-    """:class:`Stocked` records (free stock and drawers) for part ids, set-wise, by id."""
-    conn = session.connection()  # Core rows: no ORM row processing
+    """:class:`Stocked` records (free stock and drawers, none when nothing is free) for
+    part ids, set-wise, by id."""
     out: dict[int, Stocked] = {}
     for i in range(0, len(ids), 900):  # below SQLite's default bound-parameter limit
-        chunk = list(ids[i : i + 900])
-        specs: dict[int, PartSpec] = {}
-        for pid, number, kind, fam, package, pinout, desc, attrs, source, doc in conn.execute(
-                select(Part.id, Part.number, Part.kind, Part.family, Part.package, Part.pinout,
-                       Part.description, Part.attrs, Part.source, Part.params_doc)
-                .where(Part.id.in_(chunk))):
-            specs[pid] = StoredPart(number, Kind(kind), fam, package, pinout, desc or "",
-                                    json.loads(attrs) if attrs and attrs != "{}" else {},
-                                    source, doc)
-        where: dict[int, list[tuple[str, int]]] = {pid: [] for pid in specs}
-        for pid, label, free in conn.execute(
-                select(Balance.part_id, Drawer.label, Balance.on_hand - Balance.reserved)
-                .join(Drawer, Drawer.id == Balance.drawer_id)
-                .where(Balance.part_id.in_(chunk), Balance.on_hand > Balance.reserved)
-                .order_by(Balance.part_id, Drawer.label)):
-            where[pid].append((label, int(free)))
-        for pid, spec in specs.items():
-            out[pid] = Stocked(spec, sum(q for _, q in where[pid]), where[pid])
+        stmt = _stock_query(free_only=False).where(Part.id.in_(list(ids[i : i + 900])))
+        out.update(_stocked(session, stmt.group_by(Part.id)))
     return out
