@@ -287,8 +287,11 @@ def test_pick_sorted_by_drawer_with_json_and_files(env, tmp_path):  # type: igno
     assert run(db, "pick", "pk", "-o", str(out_xlsx)).code == 0
     from openpyxl import load_workbook
 
-    ws = load_workbook(out_xlsx, read_only=True)["pick"]
-    cells = [[c for c in row] for row in ws.iter_rows(values_only=True)]
+    book = load_workbook(out_xlsx, read_only=True)  # read-only keeps the file open: close it
+    try:
+        cells = [list(row) for row in book["pick"].iter_rows(values_only=True)]
+    finally:
+        book.close()
     assert [row[0] for row in cells[1:]] == drawers
     assert sum(int(row[2]) for row in cells[1:]) == 7
 

@@ -85,3 +85,32 @@ def test_a_record_from_the_store_reads_back_the_catalog_values() -> None:
     for spec in CATALOG:
         assert stored(spec) == spec
         assert spec == stored(spec)
+
+
+def test_a_large_pool_with_values_that_never_repeat() -> None:
+    """Past the memo's trial (256 candidates) a requirement whose values never repeat is
+    checked anew for every candidate and moved to the end of the evaluation order; the
+    answers stay those of checks made one by one. The pool is synthetic (drawn ratings,
+    a distinct fT each): inputs for comparing two paths, not reference data."""
+    import random
+
+    from stock.kinds import Bound
+    from stock.parts import Param
+
+    rnd = random.Random(5)
+    specs = [PartSpec(f"Q{i:04d}", Kind.BJT, "npn", "TO-92", rnd.choice(("EBC", "CBE")), params=[
+        Param("vceo", Bound.MAX, float(rnd.choice((15, 30, 45, 60)))),
+        Param("ic", Bound.MAX, rnd.choice((0.05, 0.2, 0.8))),
+        Param("pd", Bound.MAX, rnd.choice((0.35, 0.625)), {"ta": 25.0}),
+        Param("ft", Bound.MIN if rnd.random() < 0.7 else Bound.TYP, 10 ** rnd.uniform(6, 9.7)),
+        Param("tj", Bound.MAX, rnd.choice((125.0, 150.0))),
+        Param("rth_ja", Bound.MAX, rnd.choice((200.0, 357.0)))]) for i in range(900)]
+    plain = [Stocked(s, 5, [("A1", 5)]) for s in specs]
+    from_store = [Stocked(stored(s), 5, [("A1", 5)]) for s in specs]
+    slot = slot_from_args("PN2222A", kind=Kind.BJT, role=Role.RF_AMP, resolve=CATALOG.get,
+                          conditions=Conditions(supply=13.8, freq=14e6, current=0.02))
+    for include_failing in (False, True):
+        want = assess(slot, plain, POLICY, include_failing=include_failing)
+        got = assess(slot, from_store, POLICY, include_failing=include_failing)
+        assert 0 < len(want) and _shape(got) == _shape(want)
+    assert any(a.fitness.value == "fails" for a in want)  # the order of checks was tested

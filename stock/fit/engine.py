@@ -96,7 +96,11 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
                  reqs: list[Requirement], called: PartSpec | None, policy: Policy,
                  include_failing: bool) -> None:
     shared = [_SharedChecks(req, slot, policy) for req in reqs]
-    plans = [(sc.one, sc.names, sc.memo, sc) for sc in shared]
+    # Evaluation order: the remembered requirements first, those that must be checked
+    # anew for every candidate last, so a candidate that fails a cheap one costs little.
+    # The checks land in requirement order whatever the order of evaluation.
+    order = [(i, sc.one, sc.names, sc.memo, sc) for i, sc in enumerate(shared)]
+    n = len(order)
     dropins: dict[tuple[str | None, str | None], DropIn] = {}
     fail = Verdict.FAIL
     kind = slot.kind
@@ -106,10 +110,10 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
             continue
         groups = part.param_groups()
         fam = part.family
-        checks = []
-        failed = False
+        checks: list[Any] = [None] * n
+        failed = resort = False
         vers = 0.0
-        for one, names, memo, sc in plans:
+        for i, one, names, memo, sc in order:
             if names is None or groups is None:
                 c, v = sc.direct(part)
             else:
@@ -117,13 +121,19 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
                 key = (fam, groups.get(one)) if one is not None else \
                     (fam, *[groups.get(n) for n in names])
                 hit = memo.get(key)
-                c, v = hit if hit is not None else sc.miss(part, key, seen)
+                if hit is None:
+                    hit = sc.miss(part, key, seen)
+                    if not sc.keep and order[-1][4] is not sc:  # it stopped remembering
+                        resort = True
+                c, v = hit
             if c.verdict is fail:
                 failed = True
                 if not include_failing:
                     break  # most of a large pool fails something early
-            checks.append(c)
+            checks[i] = c
             vers += v
+        if resort:  # after the candidate: never while iterating over the order
+            order.sort(key=lambda o: (not o[4].keep or o[2] is None, o[0]))
         if failed and not include_failing:
             continue
         fit, warnings, smallest = fitness_of(checks)
