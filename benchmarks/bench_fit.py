@@ -27,7 +27,7 @@ def raw_fetch(con: sqlite3.Connection, bounds: list[tuple[str, float]]) -> int:
     left out, a part without the parameter stays (as the store's screen does).
     """
     misses = "".join(f" AND b.part_id NOT IN (SELECT part_id FROM params WHERE name = '{n}' "
-                     f"AND bound != 'typ' AND value < {v!r})" for n, v in bounds)
+                     f"AND bound IN ('min', 'max', 'nom') AND value < {v!r})" for n, v in bounds)
     ids = ("SELECT b.part_id FROM balances b JOIN parts p ON p.id = b.part_id "
            "WHERE p.kind = 'bjt' AND p.family = 'npn' AND b.on_hand > b.reserved"
            f"{misses} GROUP BY b.part_id")
@@ -45,7 +45,7 @@ def raw_fetch_doc(con: sqlite3.Connection, bounds: list[tuple[str, float]]) -> i
     """The same candidates fetched by hand the way the store's loader reads them: a row
     per part with its columns, parameter document and free balances folded into text."""
     misses = "".join(f" AND p.id NOT IN (SELECT part_id FROM params WHERE name = '{n}' "
-                     f"AND bound != 'typ' AND value < {v!r})" for n, v in bounds)
+                     f"AND bound IN ('min', 'max', 'nom') AND value < {v!r})" for n, v in bounds)
     dict(con.execute("SELECT id, label FROM drawers"))
     return len(con.execute(
         "SELECT p.id, p.number, p.kind, p.family, p.package, p.pinout, p.description, p.attrs, "

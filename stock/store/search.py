@@ -15,7 +15,7 @@ from sqlalchemy import String, and_, cast, func, select
 from sqlalchemy.orm import Session
 
 from stock.gcpause import cycle_collector_paused
-from stock.kinds import Kind
+from stock.kinds import Bound, Kind
 from stock.params import PARAMS, Sense
 from stock.parts import Stocked
 from stock.slots import Op
@@ -25,6 +25,7 @@ from stock.store.paramdoc import StoredPart, StoredStock
 #: Criteria on these names compare a column of the part, not a parameter.
 COLUMNS = {"family": Part.family, "package": Part.package, "pinout": Part.pinout}
 
+_GUARANTEED = [b.value for b in Bound if b is not Bound.TYP]  # bounds a datasheet guarantees
 _REL = 1e-9  # relative slack for "=" on floats (values parsed from text round-trip exactly)
 
 
@@ -125,10 +126,11 @@ def _screened(stmt: Any, screen: Sequence[Any]) -> Any:
             stmt = stmt.where(Part.family.in_(str(r.value).split("|")) | Part.family.is_(None))
             continue
         miss = ParamRow.value < float(r.value) if op == Op.GE else ParamRow.value > float(r.value)
-        # uncorrelated NOT IN: one index range scan (see criterion_clause)
+        # uncorrelated NOT IN: one index range scan (see criterion_clause); the guaranteed
+        # bounds listed, not "!= 'typ'", so the scan narrows on bound and value too
         stmt = stmt.where(Part.id.not_in(
-            select(ParamRow.part_id).where(ParamRow.name == name, ParamRow.bound != "typ",
-                                           miss)))
+            select(ParamRow.part_id).where(ParamRow.name == name,
+                                           ParamRow.bound.in_(_GUARANTEED), miss)))
     return stmt
 
 
