@@ -107,6 +107,21 @@ def test_move_take_count_log_verify(db):
     assert r.code == 0 and r.json()["ok"] is True and r.json()["movements"] == 5
 
 
+def test_verify_finds_a_drifted_parameter_document_and_repair_rewrites_it(db):
+    import sqlite3
+
+    run(db, "add", "PN2222A", "--qty", "20", "-d", "A1")
+    con = sqlite3.connect(db)
+    with con:  # a hand edit that touched only the copy
+        con.execute("UPDATE parts SET params_doc = '{}'")
+    con.close()
+    r = run(db, "verify")
+    assert r.code == 1 and "PN2222A: its parameter document differs" in r.out
+    r = run(db, "verify", "--repair", "--json")
+    assert r.code == 0 and r.json()["repaired"] == ["PN2222A"] and r.json()["ok"] is True
+    assert run(db, "verify").code == 0
+
+
 def test_moving_more_than_free_is_refused_and_changes_nothing(db):
     run(db, "add", "PN2222A", "--qty", "3", "-d", "A1")
     r = run(db, "move", "PN2222A", "5", "A1", "B1")

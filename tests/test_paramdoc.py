@@ -100,12 +100,16 @@ def test_every_writer_keeps_the_document_equal_to_the_rows(store) -> None:  # ty
     assert found is not None and found.get("vceo").value == 45.0  # type: ignore[union-attr]
 
 
-def test_verify_names_a_part_whose_document_drifted(store) -> None:  # type: ignore[no-untyped-def]
+def test_verify_names_a_part_whose_document_drifted_and_repair_rewrites_it(store) -> None:  # type: ignore[no-untyped-def]
     store.save_part(_pn2222a())
     with store.write() as s:
         s.execute(text("UPDATE parts SET params_doc = '{}' WHERE number = 'PN2222A'"))
     problems = store.verify()
-    assert problems == ["PN2222A: its parameter document differs from its parameter rows"]
+    assert problems == ["PN2222A: its parameter document differs from its parameter rows "
+                        "(stock verify --repair rewrites it from the rows)"]
+    assert store.repair_param_docs() == ["PN2222A"]
+    assert store.verify() == [] and store.repair_param_docs() == []
+    assert decode(_doc(store, "PN2222A")) == grouped(_pn2222a().params)
 
 
 def test_candidates_come_from_the_document(store) -> None:  # type: ignore[no-untyped-def]

@@ -276,16 +276,26 @@ def log(
 
 
 @app.command()
-def verify(db: DbOpt = None, json_out: JsonOpt = False) -> None:
+def verify(
+    db: DbOpt = None,
+    repair: Annotated[bool, typer.Option(
+        "--repair", help="Rewrite parameter documents that differ from their parameter rows "
+        "(the rows are the record). Quantities are never rewritten.")] = False,
+    json_out: JsonOpt = False,
+) -> None:
     """Prove every balance equals the sum of its ledger rows, every part's parameter
     document equals its parameter rows, and check the database file.
 
-    Example: stock verify
+    Examples: stock verify;  stock verify --repair
     """
     store = open_db(db)
+    repaired = store.repair_param_docs() if repair else []
+    if repaired and not json_out:
+        say(f"rewrote the parameter documents of {len(repaired)} part(s) from their rows: "
+            + ", ".join(repaired))
     problems = store.verify()
     if json_out:
-        emit_json({"ok": not problems, "problems": problems,
+        emit_json({"ok": not problems, "problems": problems, "repaired": repaired,
                    "movements": store.movement_count()})
     elif problems:
         for p in problems:

@@ -347,13 +347,24 @@ class Store:
                         f"{have[0]} on hand / {have[1]} reserved, ledger says "
                         f"{want[0]} / {want[1]}"
                     )
-            problems.extend(f"{n}: its parameter document differs from its parameter rows"
-                            for n in repo.stale_docs(s))
+            problems.extend(f"{n}: its parameter document differs from its parameter rows "
+                            "(stock verify --repair rewrites it from the rows)"
+                            for _, n in repo.stale_docs(s))
             if self.engine.dialect.name == "sqlite":
                 result = s.execute(text("PRAGMA integrity_check")).scalars().all()
                 if result != ["ok"]:
                     problems.extend(f"sqlite integrity_check: {r}" for r in result)
         return problems
+
+    def repair_param_docs(self) -> list[str]:
+        """Rewrite the parameter documents that differ from their parameter rows; return
+        the part numbers. The rows are the record and the document a copy of them, so
+        nothing is lost (quantities are never rewritten: a balance that differs from its
+        ledger needs a person to look)."""
+        with self.write() as s:
+            stale = repo.stale_docs(s)
+            repo.refresh_docs(s, [pid for pid, _ in stale])
+        return [n for _, n in stale]
 
     def movement_count(self) -> int:
         with self.read() as s:

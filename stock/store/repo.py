@@ -84,10 +84,11 @@ def write_params(session: Session, pid: int, params: Iterable[Param], *,
     refresh_docs(session, [pid])
 
 
-def stale_docs(session: Session) -> list[str]:
-    """Numbers of the parts whose parameter document differs from their ``params`` rows."""
+def stale_docs(session: Session) -> list[tuple[int, str]]:
+    """(id, number) of the parts whose parameter document differs from their ``params``
+    rows."""
     params = param_rows(session)
-    return [number for pid, number, doc in session.execute(
+    return [(pid, number) for pid, number, doc in session.execute(
                 select(Part.id, Part.number, Part.params_doc).order_by(Part.key))
             if doc != encode(params.get(pid, ()))]
 
