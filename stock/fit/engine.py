@@ -64,7 +64,7 @@ class _SharedChecks:
 
     __slots__ = ("req", "slot", "policy", "names", "one", "memo", "misses", "keep")
 
-    #: Lookups after which a memo that hits less than one time in four stops growing.
+    #: Candidates after which a memo that missed for three in four of them stops growing.
     TRIAL = 256
 
     def __init__(self, req: Requirement, slot: Slot, policy: Policy) -> None:
@@ -119,7 +119,7 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
             else:
                 # kind is the slot's for every candidate; family is read by several checks
                 key = (fam, groups.get(one)) if one is not None else \
-                    (fam, *[groups.get(n) for n in names])
+                    (fam, *[groups.get(name) for name in names])
                 hit = memo.get(key)
                 if hit is None:
                     hit = sc.miss(part, key, seen)
@@ -137,7 +137,7 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
         if failed and not include_failing:
             continue
         fit, warnings, smallest = fitness_of(checks)
-        where = (part.package, part.pinout)
+        where = (part.package, part.pinout)  # all a drop-in verdict reads (kind is the slot's)
         d = dropins.get(where)
         if d is None:
             d = dropins[where] = dropin(called, part)

@@ -104,14 +104,10 @@ def _failure_count(a: Assessment) -> int:
     return sum(1 for c in a.checks if c.verdict is Verdict.FAIL)
 
 
-def versatility(checks: list[Check]) -> float:
-    """Weighted sum of log10(actual/required) over scarce ``>=`` checks: how far a part is
-    over-qualified for this slot (0 = just meets it)."""
-    return sum(map(surplus, checks))
-
-
 def surplus(c: Check) -> float:
-    """One check's share of :func:`versatility`."""
+    """One check's share of a candidate's versatility: the weighted log10(actual/required)
+    of a scarce ``>=`` check — how far the part is over-qualified there (0 = just meets
+    it). A candidate's versatility is the sum over its checks."""
     if c.param in SCARCE and c.op is Op.GE and \
             isinstance(c.actual, float | int) and isinstance(c.required_value, float | int) \
             and c.required_value > 0 and c.actual > c.required_value:
