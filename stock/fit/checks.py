@@ -9,7 +9,7 @@ parameter the record lacks is "unknown" — a warning, never a silent pass.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from enum import StrEnum
 from functools import lru_cache
 from typing import Any
@@ -674,50 +674,131 @@ def _why_with_note(c: Check, note: str) -> str:
 _SWING_RULES = frozenset({"swing_class_abc", "swing_class_e"})
 
 
+#: A resolved check: (part, requirement, slot, policy) → the check.
+CheckFn = Callable[[PartSpec, Requirement, Slot, Policy], Check]
+
+
 def check_one(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
     """Hold one requirement against one part."""
+    return checker(req)(part, req, slot, policy)
+
+
+def checker(req: Requirement) -> CheckFn:
+    """The function that holds ``req`` against a part: :func:`check_one`'s dispatch on
+    the requirement, resolved once (the fit engine calls it for thousands of parts). The
+    two choices that depend on the part (a JFET's drain current, a crystal's frequency)
+    are made in the function returned."""
     param = req.param
-    if param == "family":
-        return _check_family(part, req)
-    if param == "safety":
-        return _check_safety(part, req)
-    if param == "dielectric":
-        return _check_dielectric(part, req)
-    if param == "polarised":
-        return _check_polarised(part, req)
-    if param == "tol":
-        return _check_tol(part, req)
+    fixed = {"family": _family_fn, "safety": _safety_fn, "dielectric": _dielectric_fn,
+             "polarised": _polarised_fn, "tol": _tol_fn, "tmax": _temperature_fn,
+             "tmin": _temperature_fn}.get(param)
+    if fixed is not None:
+        return fixed
     if param == "v_rated" and req.rule == "cap_v_fraction":
-        return _check_cap_voltage(part, req, policy)
-    if param == "id" and part.family in ("n-jfet", "p-jfet") and part.get("id") is None \
-            and part.get("idss") is not None:
-        # a JFET's drain current with the gate at the source is IDSS: a stage biased for
-        # more than the guaranteed minimum IDSS may not reach its current
-        r = Requirement("idss", req.op, req.value, req.source,
-                        f"{req.why}; a JFET carries at most IDSS".lstrip("; "), req.rule,
-                        req.warn_only, req.prefer, req.at)
-        c = _check_numeric(part, r)
-        return Check("id", c.required, c.required_value, c.actual, "IDSS " + c.actual_text,
-                     c.bound, c.at, c.margin, c.verdict, c.why, c.source, c.rule)
+        return _cap_voltage_fn
     if param == "pd" and req.rule == "pd_fraction_max":
-        return _check_pd(part, req, slot, policy)
+        return _check_pd
     if param == "pd" and req.op is Op.GE:
-        return _check_pd_free_air(part, req)
-    if param in ("tmax", "tmin"):
-        return _check_temperature(part, req)
-    if part.kind is Kind.CRYSTAL and param == "f":
-        return _check_crystal_f(part, req, policy)
+        return _pd_free_air_fn
+    general = _general(req)
+    if param == "id":
+        def drain_current(part: PartSpec, req: Requirement, slot: Slot, policy: Policy
+                          ) -> Check:
+            if part.family in ("n-jfet", "p-jfet") and part.get("id") is None \
+                    and part.get("idss") is not None:
+                return _check_jfet_id(part, req)
+            return general(part, req, slot, policy)
+        return drain_current
+    if param == "f":
+        def frequency(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+            if part.kind is Kind.CRYSTAL:
+                return _check_crystal_f(part, req, policy)
+            return general(part, req, slot, policy)
+        return frequency
+    return general
+
+
+def _general(req: Requirement) -> CheckFn:
+    """The check of a requirement no special rule covers: equal, attribute or bound."""
     if req.op is Op.EQ and not isinstance(req.value, str):
-        return _check_equal(part, req, 0.05 if param == "cl" else 0.0)
+        return _equal_cl_fn if req.param == "cl" else _equal_fn
     if isinstance(req.value, str):
-        have = part.attrs.get(param)
-        ok = have is not None and have.lower() == req.value.lower()
-        return Check(param, f"= {req.value}", req.value, have, have or "unknown", None, _NO_AT,
-                     None, Verdict.PASS if ok else Verdict.WARN if have is None or req.warn_only
-                     else Verdict.FAIL, req.why or f"{param} must be {req.value}", req.source,
-                     req.rule)
+        return _attribute_fn
+    if req.param == "vceo" and req.rule in _SWING_RULES:
+        return _swing_fn
+    return _numeric_fn
+
+
+# the checks above in the one signature (part, requirement, slot, policy)
+
+def _family_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_family(part, req)
+
+
+def _safety_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_safety(part, req)
+
+
+def _dielectric_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_dielectric(part, req)
+
+
+def _polarised_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_polarised(part, req)
+
+
+def _tol_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_tol(part, req)
+
+
+def _temperature_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_temperature(part, req)
+
+
+def _cap_voltage_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_cap_voltage(part, req, policy)
+
+
+def _pd_free_air_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_pd_free_air(part, req)
+
+
+def _equal_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_equal(part, req, 0.0)
+
+
+def _equal_cl_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_equal(part, req, 0.05)  # a crystal's load capacitance within 5 %
+
+
+def _numeric_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    return _check_numeric(part, req)
+
+
+def _check_jfet_id(part: PartSpec, req: Requirement) -> Check:
+    # a JFET's drain current with the gate at the source is IDSS: a stage biased for
+    # more than the guaranteed minimum IDSS may not reach its current
+    r = Requirement("idss", req.op, req.value, req.source,
+                    f"{req.why}; a JFET carries at most IDSS".lstrip("; "), req.rule,
+                    req.warn_only, req.prefer, req.at)
+    c = _check_numeric(part, r)
+    return Check("id", c.required, c.required_value, c.actual, "IDSS " + c.actual_text,
+                 c.bound, c.at, c.margin, c.verdict, c.why, c.source, c.rule)
+
+
+def _attribute_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+    param = req.param
+    have = part.attrs.get(param)
+    ok = have is not None and have.lower() == str(req.value).lower()
+    return Check(param, f"= {req.value}", req.value, have, have or "unknown", None, _NO_AT,
+                 None, Verdict.PASS if ok else Verdict.WARN if have is None or req.warn_only
+                 else Verdict.FAIL, req.why or f"{param} must be {req.value}", req.source,
+                 req.rule)
+
+
+def _swing_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
     check = _check_numeric(part, req)
-    if check.verdict is Verdict.FAIL and param == "vceo" and req.rule in _SWING_RULES:
+    if check.verdict is Verdict.FAIL:
         # RF power transistors are specified with the base returned through a low
         # impedance; VCER is then the practical limit (facts.md §5.6)
         vcer = part.get("vcer")

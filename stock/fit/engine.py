@@ -11,7 +11,7 @@ from collections.abc import Callable, Iterable, Mapping, Sequence
 from typing import Any
 
 from stock.errors import NotationError, UnknownPart
-from stock.fit.checks import Check, Verdict, check_one, reads
+from stock.fit.checks import Check, Verdict, checker, reads
 from stock.fit.dropin import DropIn, dropin
 from stock.fit.rank import Assessment, fitness_of, rank, surplus
 from stock.fit.requirements import requirements_for
@@ -62,13 +62,14 @@ class _SharedChecks:
     entries would cost memory and collector time and save nothing.
     """
 
-    __slots__ = ("req", "slot", "policy", "names", "one", "memo", "misses", "keep")
+    __slots__ = ("req", "slot", "policy", "fn", "names", "one", "memo", "misses", "keep")
 
     #: Candidates after which a memo that missed for three in four of them stops growing.
     TRIAL = 256
 
     def __init__(self, req: Requirement, slot: Slot, policy: Policy) -> None:
         self.req, self.slot, self.policy = req, slot, policy
+        self.fn = checker(req)  # check_one's dispatch, once
         self.names = reads(req)
         self.one = self.names[0] if self.names is not None and len(self.names) == 1 else None
         self.memo: dict[tuple, tuple[Check, float]] = {}
@@ -76,12 +77,12 @@ class _SharedChecks:
         self.keep = True
 
     def direct(self, part: PartSpec) -> tuple[Check, float]:
-        c = check_one(part, self.req, self.slot, self.policy)
+        c = self.fn(part, self.req, self.slot, self.policy)
         return c, surplus(c)
 
     def miss(self, part: PartSpec, key: tuple, seen: int) -> tuple[Check, float]:
         """Check ``part`` (``seen`` candidates so far) and remember it under ``key``."""
-        c = check_one(part.partial(self.names or ()), self.req, self.slot, self.policy)
+        c = self.fn(part.partial(self.names or ()), self.req, self.slot, self.policy)
         entry = (c, surplus(c))
         if self.keep:
             self.memo[key] = entry
