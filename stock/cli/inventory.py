@@ -301,7 +301,8 @@ def verify(
         for p in problems:
             typer.echo(p)
     else:
-        say(f"ok: every balance equals its ledger ({store.movement_count()} movements)")
+        say(f"ok: every balance equals its ledger and every parameter document its rows "
+            f"({store.movement_count()} movements)")
     if problems:
         raise typer.Exit(1)
 
