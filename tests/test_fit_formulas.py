@@ -53,3 +53,22 @@ def test_worked_example(row: dict[str, Any]) -> None:
     else:
         assert float(mine[0].value) == pytest.approx(
             parse_value(row["required"], unit).value, rel=rel)
+
+
+def test_derating_ignores_a_zero_thermal_resistance() -> None:
+    """PD(TA) = (Tj,max − TA)/RθJA (facts.md §5.3) needs a positive RθJA; a record with
+    RθJA = 0 (a typing slip) is no figure at all: the derating line comes from PD(25 °C)
+    and Tj instead, as when RθJA is missing (found in review: it divided by zero). The
+    figures are the PN2222A's (facts.md §4.1): 625 mW, Tj 150 °C → 200 °C/W."""
+    from stock.fit import pd_at
+    from stock.kinds import Bound, Kind
+    from stock.parts import Param, PartSpec
+
+    def part(*extra: Param) -> PartSpec:
+        return PartSpec("Q", Kind.BJT, "npn", params=[
+            Param("pd", Bound.MAX, 0.625, {"ta": 25.0}), Param("tj", Bound.MAX, 150.0),
+            *extra])
+
+    watts, _ = pd_at(part(Param("rth_ja", Bound.MAX, 0.0)), 60.0)
+    assert watts == pd_at(part(), 60.0)[0]
+    assert watts is not None and abs(watts - (150.0 - 60.0) / 200.0) < 1e-12  # 450 mW

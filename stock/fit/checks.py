@@ -356,8 +356,8 @@ def _pd_numbers(part: PartSpec, ta: float
         elif name == "tj":
             if tj is None:
                 tj = p.value
-        elif name == "rth_ja" and p.bound is not Bound.MIN:
-            if r is None or p.value > r:
+        elif name == "rth_ja" and p.bound is not Bound.MIN and p.value > 0:
+            if r is None or p.value > r:  # (a zero or negative RθJA is no figure at all)
                 r = p.value
     if r is None and pd25 and tj is not None and tj > t25:
         r = (tj - t25) / pd25

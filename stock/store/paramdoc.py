@@ -63,10 +63,12 @@ def _row(p: Param) -> str:
     if bound not in _BOUNDS or origin not in _ORIGINS:
         raise StockError(f"{p.name}: bound {bound!r} or origin {origin!r} is not one of "
                          f"{', '.join(_BOUNDS)} / {', '.join(_ORIGINS)}")
-    text = f"{bound} {float(p.value)!r}"
+    # + 0.0 turns -0.0 into 0.0: SQLite stores a REAL -0.0 as 0.0, and the document
+    # must read the same as the row the database keeps
+    text = f"{bound} {float(p.value) + 0.0!r}"
     if p.at:
         for k in sorted(p.at):
-            text += f" {_name(k)}={float(p.at[k])!r}"
+            text += f" {_name(k)}={float(p.at[k]) + 0.0!r}"
     if origin != "user":
         text += f" {origin}"
     return text
