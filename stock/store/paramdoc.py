@@ -195,8 +195,8 @@ class StoredStock(Stocked):
 
     __slots__ = ("_held", "_labels", "_drawers")
 
-    def __init__(self, part: PartSpec, free: int, held: str, labels: Mapping[int, str]
-                 ) -> None:
+    def __init__(self, part: PartSpec, free: int, held: str,
+                 labels: Mapping[int, tuple[int, str]]) -> None:
         self.part = part
         self.free = free
         self.to_buy = False
@@ -207,10 +207,11 @@ class StoredStock(Stocked):
     @property  # type: ignore[override]
     def drawers(self) -> list[tuple[str, int]]:
         if self._drawers is None:
-            labels = self._labels
-            self._drawers = sorted((labels[int(d)], int(q)) for d, q in
-                                   (item.split(":") for item in self._held.split(","))
-                                   ) if self._held else []
+            labels = self._labels  # id → (place in the store's order of labels, label)
+            held = sorted((labels[int(d)], int(q)) for d, q in
+                          (item.split(":") for item in self._held.split(","))
+                          ) if self._held else []
+            self._drawers = [(label, q) for (_, label), q in held]
         return self._drawers
 
     @drawers.setter

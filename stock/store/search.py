@@ -153,7 +153,10 @@ _KINDS = {k.value: k for k in Kind}
 
 def _stocked(session: Session, stmt: Any) -> list[tuple[int, Stocked]]:
     """(part id, record) for each row of a :func:`_stock_query` statement."""
-    labels = dict(raw_rows(session, select(Drawer.id, Drawer.label)))
+    # drawers are listed in the database's own order of labels (its collation), as every
+    # other listing sorts them: each id maps to (place in that order, label)
+    labels = {i: (n, label) for n, (i, label) in enumerate(raw_rows(
+        session, select(Drawer.id, Drawer.label).order_by(Drawer.label)))}
     out: list[tuple[int, Stocked]] = []
     with cycle_collector_paused():  # thousands of small acyclic records
         for pid, number, kind, fam, package, pinout, desc, attrs, source, doc, total, held in \
