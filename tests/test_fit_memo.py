@@ -38,8 +38,8 @@ CONDITIONS = [
 
 def stored(spec: PartSpec, number: str | None = None) -> StoredPart:
     return StoredPart(number or spec.number, spec.kind, spec.family, spec.package,
-                      spec.pinout, spec.description, dict(spec.attrs), spec.source,
-                      encode(spec.params))
+                      spec.pinout, spec.description, dict(spec.attrs), source=spec.source,
+                      doc=encode(spec.params))
 
 
 def _shape(assessments: list) -> list:

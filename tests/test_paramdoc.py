@@ -70,7 +70,7 @@ def _pn2222a() -> PartSpec:
 def test_a_stored_record_decodes_only_what_is_asked() -> None:
     spec = _pn2222a()
     part = StoredPart(spec.number, spec.kind, spec.family, spec.package, spec.pinout, "", {},
-                      None, encode(spec.params))
+                      doc=encode(spec.params))
     assert part._params is None  # nothing decoded yet
     assert part.partial(["hfe"]).params == [p for p in spec.params if p.name == "hfe"]
     assert part._params is None
@@ -172,3 +172,20 @@ def test_candidate_drawers_follow_the_databases_order_of_labels(store) -> None: 
         (stocked,) = load_stocked(s, [pid for pid in s.execute(
             text("SELECT id FROM parts")).scalars()]).values()
     assert [d for d, _ in stocked.drawers] == order
+
+
+def test_stored_records_can_be_copied_with_changes() -> None:
+    # found in review: dataclasses.replace raised TypeError on the store's records
+    from dataclasses import replace
+
+    from stock.store.paramdoc import StoredStock
+
+    spec = _pn2222a()
+    part = StoredPart(spec.number, spec.kind, spec.family, spec.package, spec.pinout, "", {},
+                      doc=encode(spec.params))
+    other = replace(part, number="PN2222A-B", params=[Param("vceo", Bound.MAX, 60.0)])
+    assert other.number == "PN2222A-B" and other.param_groups() == {"vceo": "max 60.0"}
+    assert replace(part, pinout="CBE").params == part.params
+    stock = StoredStock(part, 3, held="7:3", labels={7: (0, "A1")})
+    assert stock.drawers == [("A1", 3)]
+    assert replace(stock, free=2).drawers == [("A1", 3)] and replace(stock, free=2).free == 2

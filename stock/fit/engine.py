@@ -97,9 +97,10 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
                  reqs: list[Requirement], called: PartSpec | None, policy: Policy,
                  include_failing: bool) -> None:
     shared = [_SharedChecks(req, slot, policy) for req in reqs]
-    # Evaluation order: the remembered requirements first, those that must be checked
-    # anew for every candidate last, so a candidate that fails a cheap one costs little.
-    # The checks land in requirement order whatever the order of evaluation.
+    # Evaluation order: requirement order, until a requirement stops being remembered
+    # (its values do not repeat); from then on those go last, so a candidate that fails a
+    # remembered one costs little. The checks land in requirement order whatever the
+    # order of evaluation.
     order = [(i, sc.one, sc.names, sc.memo, sc) for i, sc in enumerate(shared)]
     n = len(order)
     dropins: dict[tuple[str | None, str | None], DropIn] = {}
@@ -123,9 +124,9 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
                     (fam, *[groups.get(name) for name in names])
                 hit = memo.get(key)
                 if hit is None:
+                    kept = sc.keep
                     hit = sc.miss(part, key, seen)
-                    if not sc.keep and order[-1][4] is not sc:  # it stopped remembering
-                        resort = True
+                    resort = resort or (kept and not sc.keep)  # it has just stopped
                 c, v = hit
             if c.verdict is fail:
                 failed = True

@@ -130,14 +130,19 @@ class StoredPart(PartSpec):
     memo keys) and :meth:`partial` a record of a few names, decoding only those.
 
     Equal to a :class:`PartSpec` with the same fields; its parameters come grouped by
-    name (the order among names carries no meaning; within a name it is kept).
+    name (the order among names carries no meaning; within a name it is kept). Built
+    from a document (``doc=``) or, like a :class:`PartSpec`, from ``params`` (so
+    ``dataclasses.replace`` works). Give it new parameters by assigning ``params``; a
+    list changed in place would leave the memo keys stale.
     """
 
     __slots__ = ("_doc", "_groups", "_params")
 
-    def __init__(self, number: str, kind: Kind, family: str | None, package: str | None,
-                 pinout: str | None, description: str, attrs: dict[str, str],
-                 source: str | None, doc: str) -> None:
+    def __init__(self, number: str, kind: Kind, family: str | None = None,
+                 package: str | None = None, pinout: str | None = None,
+                 description: str = "", attrs: dict[str, str] | None = None,
+                 params: list[Param] | None = None, source: str | None = None, *,
+                 doc: str | None = None) -> None:
         # no dataclass __init__: the loader builds thousands of these
         self.number = number
         self.kind = kind
@@ -145,11 +150,11 @@ class StoredPart(PartSpec):
         self.package = package
         self.pinout = pinout
         self.description = description
-        self.attrs = attrs
+        self.attrs = {} if attrs is None else attrs
         self.source = source
-        self._doc = doc
+        self._doc = doc if params is None else None  # None: encoded from params when asked
         self._groups: dict[str, str] | None = None
-        self._params: list[Param] | None = None
+        self._params: list[Param] | None = None if params is None else list(params)
 
     @property  # type: ignore[override]
     def params(self) -> list[Param]:
@@ -162,10 +167,12 @@ class StoredPart(PartSpec):
     def params(self, value: list[Param]) -> None:
         self._params = value
         self._groups = None
-        self._doc = encode(value)
+        self._doc = None
 
     def param_groups(self) -> Mapping[str, str]:
         if self._groups is None:
+            if self._doc is None:
+                self._doc = encode(self._params or ())
             self._groups = groups_of(self._doc)
         return self._groups
 
@@ -195,14 +202,17 @@ class StoredStock(Stocked):
 
     __slots__ = ("_held", "_labels", "_drawers")
 
-    def __init__(self, part: PartSpec, free: int, held: str,
-                 labels: Mapping[int, tuple[int, str]]) -> None:
+    def __init__(self, part: PartSpec, free: int = 0,
+                 drawers: list[tuple[str, int]] | None = None, to_buy: bool = False, *,
+                 held: str = "", labels: Mapping[int, tuple[int, str]] | None = None
+                 ) -> None:
+        # like a Stocked (so dataclasses.replace works), or from the loader's text
         self.part = part
         self.free = free
-        self.to_buy = False
+        self.to_buy = to_buy
         self._held = held
-        self._labels = labels
-        self._drawers: list[tuple[str, int]] | None = None
+        self._labels = labels or {}
+        self._drawers: list[tuple[str, int]] | None = drawers
 
     @property  # type: ignore[override]
     def drawers(self) -> list[tuple[str, int]]:

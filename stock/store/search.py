@@ -162,8 +162,9 @@ def _stocked(session: Session, stmt: Any) -> list[tuple[int, Stocked]]:
         for pid, number, kind, fam, package, pinout, desc, attrs, source, doc, total, held in \
                 raw_rows(session, stmt):
             part = StoredPart(number, _KINDS[kind], fam, package, pinout, desc or "",
-                              json.loads(attrs) if attrs and attrs != "{}" else {}, source, doc)
-            out.append((pid, StoredStock(part, int(total), held or "", labels)))
+                              json.loads(attrs) if attrs and attrs != "{}" else {},
+                              source=source, doc=doc)
+            out.append((pid, StoredStock(part, int(total), held=held or "", labels=labels)))
     return out
 
 
