@@ -6,6 +6,7 @@ quantities. Values are SI floats (see :mod:`stock.params`).
 
 from __future__ import annotations
 
+import copyreg
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from enum import StrEnum
@@ -26,6 +27,21 @@ class Origin(StrEnum):
 
 #: No test conditions (shared and read-only).
 NO_CONDITIONS: Mapping[str, float] = MappingProxyType({})
+
+
+def read_only(d: Mapping[str, float]) -> Mapping[str, float]:
+    """A read-only view of a copy of ``d`` (how shared test conditions are kept)."""
+    return MappingProxyType(dict(d))
+
+
+def _read_only_again(m: MappingProxyType) -> tuple:  # type: ignore[type-arg]
+    return read_only, (dict(m),)
+
+
+# Test conditions shared among records are read-only mappings, which Python can neither
+# copy nor pickle by itself; taught here, records stay plain data (deepcopy, pickle,
+# dataclasses.asdict work on them).
+copyreg.pickle(MappingProxyType, _read_only_again)
 
 
 class Param(NamedTuple):

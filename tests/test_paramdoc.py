@@ -189,3 +189,21 @@ def test_stored_records_can_be_copied_with_changes() -> None:
     stock = StoredStock(part, 3, held="7:3", labels={7: (0, "A1")})
     assert stock.drawers == [("A1", 3)]
     assert replace(stock, free=2).drawers == [("A1", 3)] and replace(stock, free=2).free == 2
+
+
+def test_store_records_copy_and_pickle_like_plain_data() -> None:
+    # found in review: shared read-only test conditions made deepcopy, pickle and asdict
+    # fail on records read from the store
+    import copy
+    import pickle
+    from dataclasses import asdict
+
+    spec = _pn2222a()
+    part = StoredPart(spec.number, spec.kind, spec.family, spec.package, spec.pinout, "", {},
+                      doc=encode(spec.params))
+    assert copy.deepcopy(part) == spec
+    assert pickle.loads(pickle.dumps(part.params)) == part.params
+    assert asdict(part)["params"][1][3] == {"ic": 0.15}
+    back = copy.deepcopy(part.params[1].at)
+    with pytest.raises(TypeError):
+        back["ic"] = 1.0  # still read-only
