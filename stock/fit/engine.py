@@ -77,13 +77,18 @@ class _SharedChecks:
         self.keep = True
 
     def direct(self, part: PartSpec) -> tuple[Check, float]:
+        """Check the whole record (a requirement that reads more than parameters)."""
         c = self.fn(part, self.req, self.slot, self.policy)
+        return c, surplus(c)
+
+    def fresh(self, part: PartSpec) -> tuple[Check, float]:
+        """Check the parameters the requirement reads, decoding only those."""
+        c = self.fn(part.partial(self.names or ()), self.req, self.slot, self.policy)
         return c, surplus(c)
 
     def miss(self, part: PartSpec, key: tuple, seen: int) -> tuple[Check, float]:
         """Check ``part`` (``seen`` candidates so far) and remember it under ``key``."""
-        c = self.fn(part.partial(self.names or ()), self.req, self.slot, self.policy)
-        entry = (c, surplus(c))
+        entry = self.fresh(part)
         if self.keep:
             self.memo[key] = entry
             self.misses += 1
@@ -101,7 +106,8 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
     # (its values do not repeat); from then on those go last, so a candidate that fails a
     # remembered one costs little. The checks land in requirement order whatever the
     # order of evaluation.
-    order = [(i, sc.one, sc.names, sc.memo, sc) for i, sc in enumerate(shared)]
+    order: list[tuple[int, str | None, tuple[str, ...] | None, dict | None, _SharedChecks]] = \
+        [(i, sc.one, sc.names, sc.memo, sc) for i, sc in enumerate(shared)]
     n = len(order)
     dropins: dict[tuple[str | None, str | None], DropIn] = {}
     fail = Verdict.FAIL
@@ -118,6 +124,8 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
         for i, one, names, memo, sc in order:
             if names is None or groups is None:
                 c, v = sc.direct(part)
+            elif memo is None:  # no longer remembered: no key to build
+                c, v = sc.fresh(part)
             else:
                 # kind is the slot's for every candidate; family is read by several checks
                 key = (fam, groups.get(one)) if one is not None else \
@@ -135,7 +143,9 @@ def _assess_into(out: list[Assessment], slot: Slot, candidates: Iterable[Stocked
             checks[i] = c
             vers += v
         if resort:  # after the candidate: never while iterating over the order
-            order.sort(key=lambda o: (not o[4].keep or o[2] is None, o[0]))
+            order = sorted(((i, one, names, memo if sc.keep else None, sc)
+                            for i, one, names, memo, sc in order),
+                           key=lambda o: (o[3] is None or o[2] is None, o[0]))
         if failed and not include_failing:
             continue
         fit, warnings, smallest = fitness_of(checks)
