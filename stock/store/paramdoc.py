@@ -14,9 +14,10 @@ names in the order their first value was written::
      "pd":"max 0.625 ta=25.0 catalog"}
 
 A group text is rows joined by ``;``; a row is ``bound value`` then, space-separated,
-its test conditions as ``name=value`` (sorted by name) and its origin when it is not
-``user``. Numbers are written as Python's shortest round-trip ``repr``, so they read back
-bit for bit. The group texts are also the fit engine's memo keys: two parts with the same
+its test conditions as ``name=value`` (sorted by name; a name that is not an identifier
+is %-escaped) and its origin when it is not ``user``. Numbers are written as Python's
+shortest round-trip ``repr``, so they read back bit for bit (but -0.0 as 0.0, as SQLite
+keeps it). The group texts are also the fit engine's memo keys: two parts with the same
 text for a name hold the same values of it (:meth:`StoredPart.param_groups`).
 """
 
@@ -28,6 +29,7 @@ from collections.abc import Iterable, Mapping
 from functools import lru_cache
 from types import MappingProxyType
 from typing import Any
+from urllib.parse import quote, unquote
 
 from stock.errors import StockError
 from stock.kinds import Bound, Kind
@@ -35,7 +37,7 @@ from stock.parts import NO_CONDITIONS, Origin, Param, PartSpec, Stocked
 
 _BOUNDS = {b.value: b for b in Bound}
 _ORIGINS = {o.value: o for o in Origin}
-_NAME = re.compile(r"[a-z][a-z0-9_]*\Z")  # parameter and condition names are identifiers
+_PLAIN = re.compile(r"[a-z][a-z0-9_]*\Z")  # every condition name of stock.params is one
 # the C scanner itself: json.loads would also match leading and trailing whitespace
 # with a regular expression, twice per part, which the documents (written here) never have
 _scan_json = json.JSONDecoder().scan_once  # type: ignore[attr-defined]
@@ -45,16 +47,19 @@ _new_param = tuple.__new__  # a Param from a complete tuple, without its keyword
 EMPTY = "{}"
 
 
-_checked_names: set[str] = set()  # names already found to be identifiers
+_plain_names: set[str] = set()  # condition names already seen to need no escaping
 
 
-def _name(name: str) -> str:
-    if name not in _checked_names:
-        if not _NAME.match(name):
-            raise StockError(f"parameter or condition name {name!r}: letters, digits and '_' "
-                             "only")
-        _checked_names.add(name)
-    return name
+def _cond_name(name: str) -> str:
+    """A condition name as written in a group text: as it is when it is an identifier,
+    else %-escaped (a space, '=' or ';' would break the row; a store written through the
+    library may hold any name)."""
+    if name in _plain_names:
+        return name
+    if _PLAIN.match(name):
+        _plain_names.add(name)
+        return name
+    return quote(name, safe="")
 
 
 def _row(p: Param) -> str:
@@ -68,7 +73,7 @@ def _row(p: Param) -> str:
     text = f"{bound} {float(p.value) + 0.0!r}"
     if p.at:
         for k in sorted(p.at):
-            text += f" {_name(k)}={float(p.at[k]) + 0.0!r}"
+            text += f" {_cond_name(k)}={float(p.at[k]) + 0.0!r}"
     if origin != "user":
         text += f" {origin}"
     return text
@@ -79,7 +84,7 @@ def encode(params: Iterable[Param]) -> str:
     groups: dict[str, str] = {}
     for p in params:
         row = _row(p)
-        name = _name(p.name)
+        name = p.name  # a key of the JSON object: any text will do
         groups[name] = f"{groups[name]};{row}" if name in groups else row
     return json.dumps(groups, separators=(",", ":"))
 
@@ -92,7 +97,8 @@ def groups_of(doc: str) -> dict[str, str]:
 @lru_cache(maxsize=4096)
 def _conditions(tokens: tuple[str, ...]) -> Mapping[str, float]:
     # one shared, read-only mapping per distinct set of conditions ("ta=25.0")
-    return MappingProxyType({k: float(v) for k, v in (t.split("=") for t in tokens)})
+    return MappingProxyType({unquote(k) if "%" in k else k: float(v)
+                             for k, v in (t.rsplit("=", 1) for t in tokens)})
 
 
 def decode_group(name: str, text: str) -> list[Param]:
