@@ -228,26 +228,29 @@ def _decode(data: bytes, file: str) -> tuple[str, str]:
 
 def _sniff_delimiter(text: str) -> str:
     """Pick the delimiter that splits most lines of the start of the file into the same number
-    (more than one) of cells; ties go to the earlier of ``DELIMITERS``."""
+    (more than one) of cells; ties go to the earlier of ``DELIMITERS``.
+
+    A delimiter that splits the first line (the header, in most files) into that same
+    number of cells comes before one that does not: quoted cells holding another candidate
+    delimiter and line breaks (``";\n;"``) can make a wrong one split more lines."""
     sample = text[:65536]
     if len(text) > len(sample):
         sample = sample[: sample.rfind("\n") + 1] or sample
-    best: tuple[int, int] = (0, 0)
+    best: tuple[int, int, int] = (0, 0, 0)
     chosen = DELIMITERS[0]
     for delimiter in DELIMITERS:
         try:
-            widths = Counter(
-                len(rec)
-                for rec in csv.reader(io.StringIO(sample, newline=""), delimiter=delimiter)
-                if len(rec) > 1
-            )
+            records = [rec for rec in csv.reader(io.StringIO(sample, newline=""),
+                                                 delimiter=delimiter) if rec]
         except csv.Error:
             continue
+        widths = Counter(len(rec) for rec in records if len(rec) > 1)
         if not widths:
             continue
         width, count = max(widths.items(), key=lambda wc: (wc[1], wc[0]))
-        if (count, width) > best:
-            best, chosen = (count, width), delimiter
+        score = (int(len(records[0]) == width), count, width)
+        if score > best:
+            best, chosen = score, delimiter
     return chosen
 
 
