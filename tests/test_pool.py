@@ -12,11 +12,12 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from stock.fit import screen
 from stock.kinds import Bound, Kind
 from stock.kits import parse_kit
 from stock.kits.check import check
 from stock.kits.kitfile import called_part
-from stock.kits.pool import COVER, LEAST, MOST, CandidatePool, sure_bounds
+from stock.kits.pool import COVER, LEAST, MOST, CandidatePool
 from stock.parts import Param, PartSpec, Stocked
 from stock.rules import load_policy
 
@@ -159,7 +160,7 @@ def test_screened_out_parts_surely_fail(store):  # type: ignore[no-untyped-def]
     for a in judged:
         if a.part not in kept:
             assert a.fitness.value == "fails", a.part
-    assert sure_bounds(Kind.BJT, reqs)  # the switch slot has hard ratings to screen on
+    assert screen(reqs)  # the switch slot has hard ratings to screen on
 
 
 def test_check_same_answer_through_store_and_list(store):  # type: ignore[no-untyped-def]

@@ -146,6 +146,7 @@ def fit(
         assessment_json,
         cautions,
         combination_json,
+        combination_pool,
         combinations_for,
         render_requirement,
         requirements_for,
@@ -176,7 +177,7 @@ def fit(
     except ValueError as exc:  # an unknown role or kind: a usage error
         raise typer.BadParameter(str(exc)) from None
     reqs = requirements_for(slot, policy)
-    ranked, pool = stand_ins(store, slot, policy, need=qty,
+    ranked, _ = stand_ins(store, slot, policy, need=qty,
                              include_failing=show_all or bool(explain),
                              buy_from=load_catalog() if buy else None)
     if explain:
@@ -188,7 +189,7 @@ def fit(
     shown = ranked if explain else ranked[:limit]
     combos: list[Any] = []
     if not explain and (combine or not any(a.fitness.value != "fails" for a in ranked)):
-        combos = combinations_for(slot, pool, policy, need=qty)
+        combos = combinations_for(slot, combination_pool(store, slot), policy, need=qty)
     slot_cautions = cautions(slot, policy=policy)
     if json_out:
         emit_json({

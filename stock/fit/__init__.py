@@ -27,7 +27,7 @@ from stock.fit.engine import (
     resolve_value_slot,
     slot_from_args,
 )
-from stock.fit.find import stand_ins
+from stock.fit.find import combination_pool, stand_ins
 from stock.fit.rank import Assessment, Fitness
 from stock.fit.requirements import requirements_for, screen
 
@@ -46,6 +46,7 @@ __all__ = [
     "combinations_for",
     "check_one",
     "check_part",
+    "combination_pool",
     "dropin",
     "parse_role",
     "pd_at",

@@ -38,10 +38,10 @@ def stand_ins(store: CandidateSource, slot: Slot, policy: Policy, *, need: int =
               ) -> tuple[list[Assessment], list[Stocked]]:
     """(ranked assessments, the candidate pool) for ``slot`` from ``store``'s free stock.
 
-    Ratings that surely miss are dropped in the store query before any ranking, unless
-    failing candidates are wanted. With ``buy_from`` (the catalog), parts the drawers
-    lack join as stand-ins to buy; they rank after stock. The pool comes back too:
-    combinations are searched in it.
+    Parts that surely miss a rating or the slot's value window are dropped in the store
+    query before any ranking, unless failing candidates are wanted. With ``buy_from``
+    (the catalog), parts the drawers lack join as stand-ins to buy; they rank after
+    stock. Combinations are searched in :func:`combination_pool`, not in this pool.
     """
     fam = slot.part.family if slot.part is not None else None
     prefilter = fam if slot.kind in _SAME_FAMILY else None  # polarity/channel must match
@@ -55,3 +55,12 @@ def stand_ins(store: CandidateSource, slot: Slot, policy: Policy, *, need: int =
                                           exclude=[s.part.number for s in pool])
         ranked = assess(slot, pool, policy, need=need, include_failing=include_failing)
     return ranked, pool
+
+
+def combination_pool(store: CandidateSource, slot: Slot) -> list[Stocked]:
+    """Free parts of the slot's kind that a series or parallel combination may be made
+    of, unscreened: parts of other values make the value, and the combination's own
+    checks share its voltage and power among the parts (:mod:`stock.fit.combine`), so
+    neither the slot's value window nor its ratings rule a part out here."""
+    with cycle_collector_paused():
+        return store.candidates(slot.kind)

@@ -37,6 +37,7 @@ _MAINS = frozenset({Role.MAINS_X, Role.MAINS_Y})
 _FAST_DIODE_ROLES = frozenset({Role.CLAMP, Role.SWITCH, Role.DETECTOR})
 
 _VALUE_PARAM = RLC_PARAMS
+_WINDOWED = frozenset(RLC_PARAMS.values())  # values a slot holds within a window
 _TOL_RULE = {Kind.RESISTOR: "r_tol_default", Kind.CAPACITOR: "c_tol_default",
              Kind.INDUCTOR: "l_tol_default"}
 
@@ -421,11 +422,12 @@ SCREENED_CHARS = frozenset({"ft", "srf"})
 def screen(reqs: list[Requirement]) -> list[Requirement]:
     """The requirements a store query may use to drop candidates before :func:`assess`.
 
-    Only hard bounds on ratings (a single guaranteed figure: VCEO, IC, VDS, VRRM, Isat …)
-    and the family equality qualify: a part whose rating misses one of them fails for sure.
-    A query must still keep parts that lack the parameter (they are "unknown", a warning,
-    not a failure). Characteristics, derated limits (PD at TA, a capacitor's voltage by
-    dielectric) and bounds at an operating point are left to the checks.
+    Only hard bounds on ratings (a single guaranteed figure: VCEO, IC, VDS, VRRM, Isat …),
+    the family equality and the value window of a resistor, capacitor or inductor slot
+    (its nominal value between two bounds) qualify: a part that misses one of them fails
+    for sure. A query must still keep parts that lack the parameter (they are "unknown",
+    a warning, not a failure). Characteristics, derated limits (PD at TA, a capacitor's
+    voltage by dielectric) and bounds at an operating point are left to the checks.
     """
     from stock.params import PARAMS, Sense
 
@@ -435,6 +437,9 @@ def screen(reqs: list[Requirement]) -> list[Requirement]:
             continue
         if r.param == "family" and r.op is EQ:
             out.append(r)
+            continue
+        if r.param in _WINDOWED and r.op in (GE, LE) and not isinstance(r.value, str):
+            out.append(r)  # the nominal value is the record's own figure for it
             continue
         if r.param in SCREENED_CHARS and r.op is GE and not isinstance(r.value, str):
             out.append(r)  # any guaranteed value below the bound means the min is too

@@ -178,7 +178,7 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     default). Nothing in the store changes: reserving is the build command's job.
     """
     from stock.fit.engine import assess
-    from stock.fit.requirements import requirements_for
+    from stock.fit.requirements import requirements_for, screen
     from stock.rules import load_policy
 
     for kit, copies in kits:
@@ -196,7 +196,7 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
     if twice:
         raise QuantityError(f"kit {twice[0]} is given twice; give it once with the total "
                             "number of copies")
-    from stock.kits.pool import CandidatePool, sure_bounds
+    from stock.kits.pool import CandidatePool
 
     # First the requirements of every slot, so the candidate pool knows which ratings to
     # index per kind; then each slot's candidates come from the pool (stock.kits.pool:
@@ -209,7 +209,7 @@ def check(kits: Sequence[tuple[Kit, int]], store: StoreLike, policy: Any = None,
             work = slot if called is slot.part else _with_part(slot, called)
             reqs = requirements_for(work, policy)
             indexed.setdefault(slot.kind, set()).update(
-                r.param for r in sure_bounds(slot.kind, reqs) if r.param != "family")
+                r.param for r in screen(reqs) if r.param != "family")
             prepared.append((slot, called, where, work, reqs, slot.qty * copies))
     pool = CandidatePool(store, indexed)
     picks = [(slot.kind, pool.pick(slot.kind, slot.calls_for, called, reqs, need))

@@ -57,20 +57,6 @@ _SAME_VALUE = 1e-6  # as stock.kits.check: nominal values this close are the sam
 _UNKNOWN = 10.0  # ordering penalty of a part lacking a screened rating (log10 units)
 
 
-def sure_bounds(kind: Kind, reqs: Sequence[Requirement]) -> list[Requirement]:
-    """The requirements the pool may screen on: the fit engine's screen, plus the value
-    window (``r``/``c``/``l`` between two bounds) of a value slot."""
-    from stock.fit import screen
-
-    out = list(screen(list(reqs)))
-    name = VALUE_PARAM.get(kind)
-    for r in reqs:
-        if r.param == name and r.op in (Op.GE, Op.LE) and not r.warn_only and not r.at \
-                and not isinstance(r.value, str) and r not in out:
-            out.append(r)
-    return out
-
-
 @dataclass
 class _Index:
     """Free parts of one kind as columns (numpy arrays), with a way to load them."""
@@ -173,7 +159,9 @@ class CandidatePool:
         """
         import numpy as np
 
-        sure = sure_bounds(kind, reqs)
+        from stock.fit.requirements import screen
+
+        sure = screen(list(reqs))
         idx = self.index(kind, {r.param for r in sure if r.param != "family"})
         n = len(idx.ids)
         if n == 0:
