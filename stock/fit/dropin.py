@@ -7,7 +7,7 @@ any other order needs the leads crossed, and the mapping is spelled out pad by p
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from enum import StrEnum
 from functools import lru_cache
 
@@ -34,6 +34,11 @@ class DropIn:
     verdict: DropInVerdict
     text: str
     mapping: list[tuple[int, int]] | None = None  # (candidate pin, board pad), 1-based
+    order: int = field(init=False, repr=False, compare=False)  # DROPIN_ORDER of the verdict
+
+    def __post_init__(self) -> None:
+        # kept on the record: the ranking reads it for every candidate
+        self.order = DROPIN_ORDER[self.verdict]
 
 
 @lru_cache(maxsize=512)

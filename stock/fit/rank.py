@@ -16,7 +16,7 @@ from dataclasses import dataclass
 from enum import StrEnum
 
 from stock.fit.checks import Check, Verdict
-from stock.fit.dropin import DROPIN_ORDER, DropIn
+from stock.fit.dropin import DropIn
 from stock.gcpause import cycle_collector_paused
 from stock.parts import Stocked, part_key
 from stock.slots import Op
@@ -118,15 +118,17 @@ def surplus(c: Check) -> float:
 def sort_key(a: Assessment, need: int, ample: float) -> tuple:
     """The ranking key (smaller is better); see the module docstring."""
     fails = 1 if a.fitness is Fitness.FAILS else 0
-    if a.smallest_margin is None:
+    margin = a.smallest_margin
+    if margin is None:
         band = 0.0  # nothing measured: rank as a thin margin
     else:
-        band = math.floor(min(a.smallest_margin, ample) * 10 + 1e-9) / 10
-    short = 0 if a.stocked.free >= need else 1
+        band = math.floor((margin if margin < ample else ample) * 10 + 1e-9) / 10
+    stocked = a.stocked
+    short = 0 if stocked.free >= need else 1
     # what is in the drawers comes before what would have to be bought
-    return (fails, a.stocked.to_buy, _failure_count(a), a.warnings, -band,
-            DROPIN_ORDER[a.dropin.verdict], short, a.demand, round(a.versatility, 2),
-            part_key(a.part))
+    return (fails, stocked.to_buy, _failure_count(a) if fails else 0, a.warnings, -band,
+            a.dropin.order, short, a.demand, round(a.versatility, 2),
+            part_key(stocked.part.number))
 
 
 def rank(assessments: list[Assessment], *, need: int = 1, ample: float = 0.5,
