@@ -52,8 +52,8 @@ def raw_fetch_doc(con: sqlite3.Connection, bounds: list[tuple[str, float]]) -> i
         "p.source, p.params_doc, SUM(b.on_hand - b.reserved), "
         "group_concat(b.drawer_id || ':' || (b.on_hand - b.reserved), ',') "
         "FROM parts p JOIN balances b ON b.part_id = p.id WHERE p.kind = 'bjt' "
-        f"AND p.family = 'npn' AND b.on_hand > b.reserved{misses} GROUP BY p.id "
-        "ORDER BY p.id").fetchall())
+        f"AND p.family = 'npn' AND b.on_hand > b.reserved{misses} GROUP BY p.family, p.id "
+        "ORDER BY p.family, p.id").fetchall())
 
 
 def measure(db: Path, title: str, targets: bool) -> bool:

@@ -181,7 +181,10 @@ def load_candidates(session: Session, kind: Kind, family: str | None = None,
     stmt = _stock_query(free_only=True).where(Part.kind == Kind(kind).value)
     if family:
         stmt = stmt.where(Part.family == family)
-    stmt = _screened(stmt, screen).group_by(Part.id).order_by(Part.id)
+    # grouped and ordered as the (kind, family) index yields the parts (its rows end in the
+    # id), so SQLite needs no temporary sort of the wide rows
+    order = (Part.family, Part.id)
+    stmt = _screened(stmt, screen).group_by(*order).order_by(*order)
     return [s for _, s in _stocked(session, stmt)]
 
 
