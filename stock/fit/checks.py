@@ -689,9 +689,7 @@ def checker(req: Requirement) -> CheckFn:
     two choices that depend on the part (a JFET's drain current, a crystal's frequency)
     are made in the function returned."""
     param = req.param
-    fixed = {"family": _family_fn, "safety": _safety_fn, "dielectric": _dielectric_fn,
-             "polarised": _polarised_fn, "tol": _tol_fn, "tmax": _temperature_fn,
-             "tmin": _temperature_fn}.get(param)
+    fixed = _BY_PARAM.get(param)
     if fixed is not None:
         return fixed
     if param == "v_rated" and req.rule == "cap_v_fraction":
@@ -699,7 +697,7 @@ def checker(req: Requirement) -> CheckFn:
     if param == "pd" and req.rule == "pd_fraction_max":
         return _check_pd
     if param == "pd" and req.op is Op.GE:
-        return _pd_free_air_fn
+        return _PD_FREE_AIR
     general = _general(req)
     if param == "id":
         def drain_current(part: PartSpec, req: Requirement, slot: Slot, policy: Policy
@@ -721,58 +719,29 @@ def checker(req: Requirement) -> CheckFn:
 def _general(req: Requirement) -> CheckFn:
     """The check of a requirement no special rule covers: equal, attribute or bound."""
     if req.op is Op.EQ and not isinstance(req.value, str):
-        return _equal_cl_fn if req.param == "cl" else _equal_fn
+        return _equal_fn
     if isinstance(req.value, str):
         return _attribute_fn
     if req.param == "vceo" and req.rule in _SWING_RULES:
         return _swing_fn
-    return _numeric_fn
+    return _NUMERIC
 
 
-# the checks above in the one signature (part, requirement, slot, policy)
-
-def _family_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_family(part, req)
-
-
-def _safety_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_safety(part, req)
-
-
-def _dielectric_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_dielectric(part, req)
-
-
-def _polarised_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_polarised(part, req)
-
-
-def _tol_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_tol(part, req)
-
-
-def _temperature_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_temperature(part, req)
+def _part_only(check: Callable[[PartSpec, Requirement], Check]) -> CheckFn:
+    """``check``, which reads only the part and the requirement, in the one signature
+    (part, requirement, slot, policy) that :func:`checker` returns."""
+    def fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
+        return check(part, req)
+    return fn
 
 
 def _cap_voltage_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
     return _check_cap_voltage(part, req, policy)
 
 
-def _pd_free_air_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_pd_free_air(part, req)
-
-
 def _equal_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_equal(part, req, 0.0)
-
-
-def _equal_cl_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_equal(part, req, 0.05)  # a crystal's load capacitance within 5 %
-
-
-def _numeric_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> Check:
-    return _check_numeric(part, req)
+    # a crystal's load capacitance is equal within 5 %; any other value exactly
+    return _check_equal(part, req, 0.05 if req.param == "cl" else 0.0)
 
 
 def _check_jfet_id(part: PartSpec, req: Requirement) -> Check:
@@ -807,6 +776,16 @@ def _swing_fn(part: PartSpec, req: Requirement, slot: Slot, policy: Policy) -> C
                                     f"VCEO is short but VCER {si(vcer.value, 'V')} covers the "
                                     "swing: only with the base returned through a low impedance")
     return check
+
+
+#: The checks chosen by the parameter alone.
+_BY_PARAM: dict[str, CheckFn] = {
+    "family": _part_only(_check_family), "safety": _part_only(_check_safety),
+    "dielectric": _part_only(_check_dielectric), "polarised": _part_only(_check_polarised),
+    "tol": _part_only(_check_tol), "tmax": _part_only(_check_temperature),
+    "tmin": _part_only(_check_temperature)}
+_PD_FREE_AIR = _part_only(_check_pd_free_air)
+_NUMERIC = _part_only(_check_numeric)
 
 
 def reads(req: Requirement) -> tuple[str, ...] | None:
