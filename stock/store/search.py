@@ -151,12 +151,16 @@ def _stock_query(free_only: bool) -> Any:
 _KINDS = {k.value: k for k in Kind}
 
 
-def _stocked(session: Session, stmt: Any) -> list[tuple[int, Stocked]]:
-    """(part id, record) for each row of a :func:`_stock_query` statement."""
-    # drawers are listed in the database's own order of labels (its collation), as every
-    # other listing sorts them: each id maps to (place in that order, label)
-    labels = {i: (n, label) for n, (i, label) in enumerate(raw_rows(
+def _drawer_places(session: Session) -> dict[int, tuple[int, str]]:
+    """Drawer id → (place in the database's own order of labels, label): drawers are
+    listed in that order (its collation), as every other listing sorts them."""
+    return {i: (n, label) for n, (i, label) in enumerate(raw_rows(
         session, select(Drawer.id, Drawer.label).order_by(Drawer.label)))}
+
+
+def _stocked(session: Session, stmt: Any, labels: dict[int, tuple[int, str]]
+             ) -> list[tuple[int, Stocked]]:
+    """(part id, record) for each row of a :func:`_stock_query` statement."""
     out: list[tuple[int, Stocked]] = []
     with cycle_collector_paused():  # thousands of small acyclic records
         for pid, number, kind, fam, package, pinout, desc, attrs, source, doc, total, held in \
@@ -185,7 +189,7 @@ def load_candidates(session: Session, kind: Kind, family: str | None = None,
     # id), so SQLite needs no temporary sort of the wide rows
     order = (Part.family, Part.id)
     stmt = _screened(stmt, screen).group_by(*order).order_by(*order)
-    return [s for _, s in _stocked(session, stmt)]
+    return [s for _, s in _stocked(session, stmt, _drawer_places(session))]
 
 
 def kind_columns(session: Session, kind: Kind, names: Sequence[str]
@@ -234,7 +238,8 @@ def load_stocked(session: Session, ids: Sequence[int]) -> dict[int, Stocked]:
     """:class:`Stocked` records (free stock and drawers, none when nothing is free) for
     part ids, set-wise, by id."""
     out: dict[int, Stocked] = {}
+    labels = _drawer_places(session)
     for i in range(0, len(ids), 900):  # below SQLite's default bound-parameter limit
         stmt = _stock_query(free_only=False).where(Part.id.in_(list(ids[i : i + 900])))
-        out.update(_stocked(session, stmt.group_by(Part.id)))
+        out.update(_stocked(session, stmt.group_by(Part.id), labels))
     return out
